@@ -43,9 +43,12 @@
 #define SD_LEVEL_KM 0.0007     /* level per-km 0.7mm */
 
 /* Gross errors given to --blunders observations: far above the noise
- * (roughly 30 sigma) so a working snooper must find every one. */
+ * (10-40 sigma) so a working snooper must find every one. */
 #define BLUNDER_DIST 0.05            /* m, on a horiz or slope distance */
-#define BLUNDER_ANGLE (20.0 * ARCSEC) /* on a direction or zenith angle */
+#define BLUNDER_DIR (20.0 * ARCSEC)  /* on a direction */
+/* a zenith angle's sigma grows with 2 height errors over a short leg (about
+ * 2.7" at 130 m), so its blunder is larger to stay near 10 sigma */
+#define BLUNDER_ZEN (30.0 * ARCSEC)
 #define BLUNDER_RISE 0.010           /* m, on a rise */
 
 #define MAX_NB 8 /* most neighbours a setup sights */
@@ -55,7 +58,7 @@
 
 enum kind { KIND_PLANE, KIND_3D, KIND_LEVEL };
 
-/* ---- PRNG: splitmix64 seeds xoshiro256**; all state lives in a struct ---- */
+/* ---- PRNG: splitmix64 seeds xoshiro256**; all state is in a struct ---- */
 
 typedef struct {
     uint64_t s[4];
@@ -255,7 +258,6 @@ typedef struct {
     unsigned char *held;
     uint32_t *nb;         /* MAX_NB neighbour slots per mark, nearest first */
     unsigned char *nnb;   /* neighbours actually sighted (or levelled) */
-    double *ih;           /* instrument height per setup (3d) */
 } net_t;
 
 static void *xcalloc(size_t n, size_t size)
@@ -303,7 +305,7 @@ static double terrain_h(const terrain_t *t, double de, double dn)
  * partial. The grid is centred on (GRID_E0, GRID_N0). */
 static void make_marks(net_t *net, const params_t *p, rng_t *geo)
 {
-    size_t n = p->n;
+    size_t n = p->n < 3 ? 3 : p->n; /* parse_args enforces >= 3 */
     size_t side = (size_t)ceil(sqrt((double)n));
     while (side * side < n)
         side++;
@@ -386,6 +388,7 @@ static void find_neighbours(net_t *net, double cell, int k)
         double best_d[MAX_NB];
         uint32_t best_j[MAX_NB];
         int have = 0;
+        int target = n - 1 < (size_t)k ? (int)(n - 1) : k;
         long qx = (long)(cellof[i] % gx), qy = (long)(cellof[i] / gx);
         for (long r = 0; r <= (long)maxring; r++) {
             for (long cy = qy - r; cy <= qy + r; cy++) {
@@ -419,12 +422,11 @@ static void find_neighbours(net_t *net, double cell, int k)
                     }
                 }
             }
-            /* every cell of ring r+1 is at least r cells from the query */
+            /* every cell of ring r+1 is at least r cells from the query;
+             * a network smaller than k + 1 marks stops when all are in */
             double reach = (double)r * cell;
-            if (have == k && best_d[k - 1] <= reach * reach)
-                break;
-            if (have == (int)(n - 1 < (size_t)k ? n - 1 : (size_t)k) &&
-                (size_t)have == n - 1)
+            if (have == target &&
+                (target < k || best_d[k - 1] <= reach * reach))
                 break;
         }
         for (int t = 0; t < have; t++)
@@ -513,21 +515,24 @@ static void write_header(out_t *o, const params_t *p, const net_t *net,
                          size_t nheld, uint64_t nobs)
 {
     char tmp[512];
-    out_str(o, "# Synthetic control network from cairn tests/bench/gen.\n");
-    out_str(o, "# Invented data for benchmarks and tests; not a real survey.\n");
+    out_str(o, "# Synthetic control network from cairn tests/bench/gen.");
+    out_nl(o);
+    out_str(o, "# Invented data for benchmarks and tests; not a real survey.");
+    out_nl(o);
     snprintf(tmp, sizeof tmp,
              "# gen --kind %s --marks %zu --seed %" PRIu64
-             " --blunders %zu --start-offset %g%s --spacing %g\n",
+             " --blunders %zu --start-offset %g%s --spacing %g",
              kind_name(p->kind), p->n, p->seed, p->blunders, p->start_offset,
              p->no_starts ? " --no-starts" : "", p->spacing);
     out_str(o, tmp);
+    out_nl(o);
     snprintf(tmp, sizeof tmp,
              "# grid %zu columns, spacing %g m, jitter +-%g m, centre e %.0f"
-             " n %.0f; %zu held marks, %" PRIu64 " observations\n",
+             " n %.0f; %zu held marks, %" PRIu64 " observations",
              net->side, p->spacing, 0.25 * p->spacing, GRID_E0, GRID_N0,
              nheld, nobs);
     out_str(o, tmp);
-    o->line += 4;
+    out_nl(o);
     out_str(o, "units m dms");
     out_nl(o);
     if (p->kind == KIND_3D) {
@@ -609,7 +614,7 @@ static void write_setups(out_t *o, const params_t *p, const net_t *net,
                         sqrt(SD_DIR * SD_DIR + two_c2 / (d * d)) *
                             rng_normal(noise);
             if (pick(pk)) {
-                double b = sign_pm(&pk->r) * BLUNDER_ANGLE;
+                double b = sign_pm(&pk->r) * BLUNDER_DIR;
                 hz += b;
                 record(pk, line, seq + 1, "direction", i, j, b / ARCSEC);
             }
@@ -627,7 +632,7 @@ static void write_setups(out_t *o, const params_t *p, const net_t *net,
                                   2.0 * SD_HEIGHT * SD_HEIGHT / (d * d)) *
                                  rng_normal(noise);
                 if (pick(pk)) {
-                    double b = sign_pm(&pk->r) * BLUNDER_ANGLE;
+                    double b = sign_pm(&pk->r) * BLUNDER_ZEN;
                     zen += b;
                     record(pk, line, seq + 1, "zenith", i, j, b / ARCSEC);
                 }
@@ -928,16 +933,16 @@ int main(int argc, char **argv)
                         " observations\n", p.blunders, nobs);
         return 2;
     }
-    pk.left = p.blunders;
-    pk.remaining = nobs;
-    pk.list = xcalloc(p.blunders, sizeof *pk.list);
-    pk.count = 0;
-
     FILE *f = strcmp(p.out_path, "-") ? fopen(p.out_path, "w") : stdout;
     if (!f) {
         fprintf(stderr, "gen: %s: %s\n", p.out_path, strerror(errno));
         return 1;
     }
+    pk.left = p.blunders;
+    pk.remaining = nobs;
+    pk.list = xcalloc(p.blunders, sizeof *pk.list);
+    pk.count = 0;
+
     out_t *o = xcalloc(1, sizeof *o); /* 64 KiB buffer: not on the stack */
     o->f = f;
     write_header(o, &p, &net, nheld, nobs);
