@@ -33,6 +33,8 @@ typedef struct {
     double e, n, h;     /**< metres; meaningful where `given` has the bit */
     unsigned given;     /**< CAIRN_E|CAIRN_N|CAIRN_H: components given */
     unsigned hold;      /**< components held fixed (subset of given) */
+    unsigned computed;  /**< components whose starting value the solve stage
+                             computed from observations (not given) */
     double sd_en;       /**< metres; > 0 when e and n are weighted control */
     double sd_h;        /**< metres; > 0 when h is weighted control */
     char *desc;         /**< free text or NULL */
@@ -112,6 +114,8 @@ typedef struct {
     double km;           /**< rise: length of the level run, km (0 if none) */
     int setups;          /**< rise: number of level setups (0 if none) */
     cairn_sd sd;         /**< explicit sd (sd.has == 0: from the instrument) */
+    double aux_s;        /**< reduced obs: the booked slope distance (after ppm), m */
+    double aux_z;        /**< reduced obs: the booked face-one zenith angle, rad */
     cairn_src src;
 } cairn_obs;
 
@@ -183,5 +187,77 @@ const char *cairn_net_file(cairn_net *net, const char *path);
 
 /** True when an id follows FORMAT.md's rule: 1–40 of A–Z a–z 0–9 _ . - / */
 int cairn_id_valid(const char *id);
+
+
+/* ------------------------------------------------------------------ */
+/* The adjustment problem and its observation equations                */
+/* ------------------------------------------------------------------ */
+
+/** The observations of one adjustment: the booked observations reduced for
+ *  the dimension (FORMAT.md "Models": slope+zenith → horiz in 2, → trig-rise
+ *  in 1; readings a dimension does not use are dropped), followed by the
+ *  control pseudo-observations of weighted marks (e, n, h in mark order;
+ *  none when datum_free). Order = the rows of observations.csv. For these
+ *  observations `value` is the observed value as adjusted: distances
+ *  already multiplied by (1 + ppm·1e-6), reductions applied. */
+typedef struct cairn_problem {
+    const cairn_net *net;
+    int dimension;        /**< resolved: 1, 2 or 3 */
+    int heights;          /**< 1 when any observation involves heights */
+    int plane;            /**< 1 when any observation involves e, n */
+    int datum_free;       /**< 1: holds and weights ignored */
+    cairn_obs *obs;       /**< nobs adjustment observations */
+    size_t nobs;
+    int *booked;          /**< index into net->obs, or -1 for control obs */
+    unsigned *touch;      /**< per mark: CAIRN_E|N|H components observed */
+} cairn_problem;
+
+/** Build the adjustment's observations from a loaded, valid net.
+ *  Returns 0, or -1 with errors (e.g. a slope distance without zenith in
+ *  dimension 2). */
+int cairn_problem_build(const cairn_net *net, int datum_free,
+                        cairn_problem **pprob, cairn_error *err);
+void cairn_problem_free(cairn_problem **pprob);
+
+/** Current values of all parameters: coordinates per mark (metres, after
+ *  any origin reduction the caller applied consistently), orientation per
+ *  setup (radians). */
+typedef struct {
+    const double *e, *n, *h;   /**< indexed by mark */
+    const double *omega;       /**< indexed by setup */
+} cairn_state;
+
+/** Local parameters an observation can touch. */
+enum {
+    CAIRN_PAR_E_AT = 0, CAIRN_PAR_N_AT, CAIRN_PAR_H_AT,
+    CAIRN_PAR_E_FROM, CAIRN_PAR_N_FROM, CAIRN_PAR_H_FROM,
+    CAIRN_PAR_E_TO, CAIRN_PAR_N_TO, CAIRN_PAR_H_TO,
+    CAIRN_PAR_OMEGA,
+    CAIRN_NPAR
+};
+
+/** Computed value of an observation and its partial derivatives. */
+typedef struct {
+    double value;             /**< rad or m, same convention as obs value */
+    double d[CAIRN_NPAR];     /**< ∂value/∂parameter; 0 for untouched ones */
+} cairn_lin;
+
+/** Evaluate observation o of problem p at state x (FORMAT.md "Models").
+ *  Angular values are wrapped into [0, 2π). Returns 0, or -1 when the
+ *  geometry makes it undefined (coincident marks). */
+int cairn_obs_linearise(const cairn_problem *p, const cairn_obs *o,
+                        const cairn_state *x, cairn_lin *plin);
+
+/** True for kinds whose value is an angle (residuals wrap into (−π, π]). */
+int cairn_obs_kind_angular(cairn_obs_kind k);
+
+/** Residual v = computed − observed (wrapped for angles). */
+double cairn_obs_residual(const cairn_obs *o, double computed);
+
+/** A priori standard deviation (m or rad) of observation o at state x, by
+ *  FORMAT.md "Models" (or its own sd). Returns a value > 0, or -1 when no
+ *  precision can be found (the input stage should have rejected that). */
+double cairn_obs_sigma(const cairn_problem *p, const cairn_obs *o,
+                       const cairn_state *x);
 
 #endif

@@ -18,6 +18,9 @@ typedef struct {
  * when some were not stored. */
 void cairn_cli_print_diags(const cairn_error *err);
 
+int cairn_cli_adjust(int argc, char **argv);
+void cairn_cli_adjust_help(FILE *out);
+
 int cairn_cli_check(int argc, char **argv);
 void cairn_cli_check_help(FILE *out);
 

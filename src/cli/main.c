@@ -7,6 +7,8 @@
 #include "cli.h"
 
 static const cairn_cli_command commands[] = {
+    {"adjust", "adjust a project by least squares, write the results", cairn_cli_adjust,
+     cairn_cli_adjust_help},
     {"check", "load and validate a project, report field-book checks", cairn_cli_check,
      cairn_cli_check_help},
 };

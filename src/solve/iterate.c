@@ -1,0 +1,387 @@
+/* The iteration: Gauss–Newton with Armijo backtracking on vᵀPv, falling
+ * back to Levenberg–Marquardt damping when no backtracked step decreases
+ * vᵀPv (DESIGN.md "Iteration"; Nocedal & Wright, "Numerical Optimization",
+ * 2nd ed., §3.1 for the sufficient-decrease condition with c₁ = 1e-4 and
+ * §10.3 for Levenberg–Marquardt with Marquardt's diagonal scaling).
+ * The a priori σ are re-evaluated at each linearisation point and held
+ * fixed within its line search (DEVELOPERS.md). */
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "solve_int.h"
+
+#define ARMIJO_C1 1e-4
+#define MAX_HALVINGS 10
+#define LM_MU0 1e-3
+#define LM_TRIES 10
+#define CONV_FRACTION 0.01   /* DEVELOPERS.md: 0.01 × the smallest σ */
+#define CONV_LENGTH_FLOOR 1e-6 /* m */
+
+int cairn_xstate_init(cairn_xstate *x, size_t nmarks, size_t nsetups)
+{
+    memset(x, 0, sizeof *x);
+    size_t nm = nmarks ? nmarks : 1, ns = nsetups ? nsetups : 1;
+    x->e = calloc(nm, sizeof *x->e);
+    x->n = calloc(nm, sizeof *x->n);
+    x->h = calloc(nm, sizeof *x->h);
+    x->omega = calloc(ns, sizeof *x->omega);
+    x->st.e = x->e;
+    x->st.n = x->n;
+    x->st.h = x->h;
+    x->st.omega = x->omega;
+    if (!x->e || !x->n || !x->h || !x->omega) {
+        cairn_xstate_clear(x);
+        return -1;
+    }
+    return 0;
+}
+
+void cairn_xstate_copy(cairn_xstate *dst, const cairn_xstate *src, size_t nmarks,
+                       size_t nsetups)
+{
+    memcpy(dst->e, src->e, nmarks * sizeof *dst->e);
+    memcpy(dst->n, src->n, nmarks * sizeof *dst->n);
+    memcpy(dst->h, src->h, nmarks * sizeof *dst->h);
+    memcpy(dst->omega, src->omega, nsetups * sizeof *dst->omega);
+}
+
+void cairn_xstate_clear(cairn_xstate *x)
+{
+    free(x->e);
+    free(x->n);
+    free(x->h);
+    free(x->omega);
+    memset(x, 0, sizeof *x);
+}
+
+/* The observation as evaluated at the local origin: control observations
+ * of e and n compare with the given value minus the origin. */
+static const cairn_obs *local_obs(const cairn_adjustment *adj, size_t i,
+                                  cairn_obs *tmp)
+{
+    const cairn_obs *o = &adj->prob->obs[i];
+    if (o->kind != CAIRN_OBS_CONTROL_E && o->kind != CAIRN_OBS_CONTROL_N)
+        return o;
+    *tmp = *o;
+    tmp->value -= o->kind == CAIRN_OBS_CONTROL_E ? adj->origin_e : adj->origin_n;
+    return tmp;
+}
+
+int cairn_solve_eval(const cairn_adjustment *adj, size_t i, const cairn_xstate *x,
+                     const cairn_rows *rows, double *coef, double *pcomputed,
+                     double *pv)
+{
+    cairn_obs tmp;
+    const cairn_obs *o = local_obs(adj, i, &tmp);
+    cairn_lin lin;
+    memset(&lin, 0, sizeof lin);
+    if (cairn_obs_linearise(adj->prob, o, &x->st, &lin))
+        return -1;
+    if (!isfinite(lin.value))
+        return -1;
+    *pcomputed = lin.value;
+    *pv = cairn_obs_residual(o, lin.value);
+    if (rows && coef) {
+        for (size_t k = rows->ptr[i]; k < rows->ptr[i + 1]; k++) {
+            double c = 0;
+            for (int par = 0; par < CAIRN_NPAR; par++)
+                if (rows->par[k] & (1u << par))
+                    c += lin.d[par];
+            coef[k - rows->ptr[i]] = c;
+        }
+    }
+    return 0;
+}
+
+static int geom_error(const cairn_adjustment *adj, size_t i, cairn_error *err)
+{
+    const cairn_obs *o = &adj->prob->obs[i];
+    cairn_error_add(err, CAIRN_SEV_ERROR, o->src.file, o->src.line, o->src.col,
+                    "this %s cannot be computed from the current coordinates "
+                    "(coincident marks?)", cairn_obs_kind_name(o->kind));
+    return CAIRN_SOLVE_EGEOM;
+}
+
+/* DEVELOPERS.md "Starting orientation": circular mean of (t − hz), face
+ * corrected, over the setup's directions at the starting coordinates.
+ * Evaluating a direction with ω = 0 gives t (+π in face two). */
+static int start_orientations(const cairn_adjustment *adj, cairn_xstate *x,
+                              cairn_error *err)
+{
+    size_t ns = adj->net->nsetups;
+    double *sx = calloc(ns ? ns : 1, sizeof *sx), *sy = calloc(ns ? ns : 1, sizeof *sy);
+    if (!sx || !sy) {
+        free(sx);
+        free(sy);
+        cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory");
+        return CAIRN_SOLVE_ENOMEM;
+    }
+    for (size_t s = 0; s < ns; s++)
+        x->omega[s] = 0;
+    for (size_t i = 0; i < adj->prob->nobs; i++) {
+        const cairn_obs *o = &adj->prob->obs[i];
+        if (o->kind != CAIRN_OBS_DIRECTION || o->setup < 0)
+            continue;
+        double c, v;
+        if (cairn_solve_eval(adj, i, x, NULL, NULL, &c, &v)) {
+            free(sx);
+            free(sy);
+            return geom_error(adj, i, err);
+        }
+        double a = c - o->value;
+        sx[o->setup] += cos(a);
+        sy[o->setup] += sin(a);
+    }
+    for (size_t s = 0; s < ns; s++)
+        if (sx[s] != 0 || sy[s] != 0)
+            x->omega[s] = cairn_wrap_2pi(atan2(sy[s], sx[s]));
+    free(sx);
+    free(sy);
+    return 0;
+}
+
+static void apply_step(const cairn_adjustment *adj, const cairn_xstate *x,
+                       const double *dx, double t, cairn_xstate *out)
+{
+    cairn_xstate_copy(out, x, adj->net->nmarks, adj->net->nsetups);
+    for (int j = 0; j < adj->nunknowns; j++) {
+        const cairn_unknown *u = &adj->unknowns[j];
+        double d = t * dx[j];
+        if (u->mark < 0)
+            out->omega[u->setup] += d;
+        else if (u->comp == CAIRN_E)
+            out->e[u->mark] += d;
+        else if (u->comp == CAIRN_N)
+            out->n[u->mark] += d;
+        else
+            out->h[u->mark] += d;
+    }
+}
+
+/* vᵀPv at x with the weights w of the linearisation point; +∞ when an
+ * observation is undefined there (so the line search rejects the step). */
+static double vtpv_at(const cairn_adjustment *adj, const cairn_xstate *x,
+                      const double *w)
+{
+    double f = 0;
+    for (size_t i = 0; i < adj->prob->nobs; i++) {
+        double c, v;
+        if (cairn_solve_eval(adj, i, x, NULL, NULL, &c, &v))
+            return INFINITY;
+        f += w[i] * v * v;
+    }
+    return isfinite(f) ? f : INFINITY;
+}
+
+/* Largest corrections of t·dx, lengths and angles, and where. */
+static void measure(const cairn_adjustment *adj, const double *dx, double t,
+                    cairn_iter_log *lg)
+{
+    lg->max_length = 0;
+    lg->max_angle = 0;
+    lg->max_length_mark = -1;
+    lg->max_length_comp = 0;
+    lg->max_angle_setup = -1;
+    for (int j = 0; j < adj->nunknowns; j++) {
+        const cairn_unknown *u = &adj->unknowns[j];
+        double a = fabs(t * dx[j]);
+        if (u->mark >= 0 && !(a <= lg->max_length)) {
+            lg->max_length = a;
+            lg->max_length_mark = u->mark;
+            lg->max_length_comp = u->comp;
+        } else if (u->mark < 0 && !(a <= lg->max_angle)) {
+            lg->max_angle = a;
+            lg->max_angle_setup = u->setup;
+        }
+    }
+}
+
+/* Weights, computed values, residuals and design coefficients at x with
+ * σ re-evaluated there. Returns vᵀPv through *pf and the smallest length
+ * and angular σ. */
+static int linearise_all(cairn_adjustment *adj, const cairn_xstate *x,
+                         cairn_rows *rows, double *w, double *v, double *pf,
+                         double *pminlen, double *pminang, cairn_error *err)
+{
+    const cairn_problem *p = adj->prob;
+    double f = 0, minlen = INFINITY, minang = INFINITY;
+    for (size_t i = 0; i < p->nobs; i++) {
+        cairn_obs tmp;
+        const cairn_obs *o = local_obs(adj, i, &tmp);
+        double sig = cairn_obs_sigma(p, o, &x->st);
+        if (!(sig > 0) || !isfinite(sig)) {
+            cairn_error_add(err, CAIRN_SEV_ERROR, o->src.file, o->src.line,
+                            o->src.col, "this %s has no usable a priori standard "
+                            "deviation", cairn_obs_kind_name(o->kind));
+            return CAIRN_SOLVE_EGEOM;
+        }
+        adj->sigma[i] = sig;
+        w[i] = 1.0 / (sig * sig);
+        if (cairn_solve_eval(adj, i, x, rows, rows ? rows->coef + rows->ptr[i] : NULL,
+                             &adj->computed[i], &v[i]))
+            return geom_error(adj, i, err);
+        adj->residual[i] = v[i];
+        f += w[i] * v[i] * v[i];
+        if (cairn_obs_kind_angular(o->kind)) {
+            if (sig < minang)
+                minang = sig;
+        } else if (sig < minlen) {
+            minlen = sig;
+        }
+    }
+    *pf = f;
+    *pminlen = minlen;
+    *pminang = minang;
+    return 0;
+}
+
+static int no_convergence(const cairn_adjustment *adj, int iterations,
+                          const cairn_iter_log *lg, const char *why, cairn_error *err)
+{
+    const cairn_net *net = adj->net;
+    double lf = cairn_length_factor(net->length_unit);
+    char where[CAIRN_ID_MAX + 64] = "nowhere";
+    if (lg && lg->max_length_mark >= 0)
+        snprintf(where, sizeof where, "mark %s (%s)", net->marks[lg->max_length_mark].id,
+                 lg->max_length_comp == CAIRN_E ? "e" :
+                 lg->max_length_comp == CAIRN_N ? "n" : "h");
+    cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
+                    "did not converge after %d iteration%s%s (largest correction "
+                    "%.6g %s at %s)", iterations, iterations == 1 ? "" : "s", why,
+                    lg ? lg->max_length / lf : 0.0,
+                    cairn_length_unit_name(net->length_unit), where);
+    return CAIRN_SOLVE_ENOCONV;
+}
+
+int cairn_solve_iterate(cairn_adjustment *adj, const cairn_adjust_options *opt,
+                        cairn_rows *rows, cairn_xstate *x, cairn_error *err)
+{
+    const cairn_net *net = adj->net;
+    size_t nobs = adj->prob->nobs;
+    int n = adj->nunknowns;
+    cairn_solver *s = adj->solver;
+    int maxit = opt->max_iterations > 0 ? opt->max_iterations : net->opt.max_iterations;
+    if (maxit < 1)
+        maxit = 1;
+    double *w = malloc((nobs ? nobs : 1) * sizeof *w);
+    double *v = malloc((nobs ? nobs : 1) * sizeof *v);
+    double *dx = malloc(((size_t)n ? (size_t)n : 1) * sizeof *dx);
+    adj->log = calloc((size_t)maxit, sizeof *adj->log);
+    cairn_xstate xt;
+    int rc = 0;
+    if (!w || !v || !dx || !adj->log || cairn_xstate_init(&xt, net->nmarks, net->nsetups)) {
+        free(w); free(v); free(dx);
+        cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory");
+        return CAIRN_SOLVE_ENOMEM;
+    }
+    if ((rc = start_orientations(adj, x, err)) != 0)
+        goto done;
+    if ((rc = cairn_solver_analyse(s, rows, nobs, err)) != 0)
+        goto done;
+    double mu = LM_MU0;
+    int converged = 0;
+    for (int it = 1; it <= maxit && !converged; it++) {
+        cairn_iter_log *lg = &adj->log[it - 1];
+        double f0, minlen, minang;
+        lg->iteration = it;
+        if ((rc = linearise_all(adj, x, rows, w, v, &f0, &minlen, &minang, err)))
+            goto done;
+        lg->vtpv_start = f0;
+        cairn_solver_assemble(s, rows, nobs, w, v);
+        if ((rc = cairn_solver_factorise(s, 0.0, adj, err)) ||
+            (rc = cairn_solver_solve(s, dx, err)))
+            goto done;
+        measure(adj, dx, 1.0, lg);
+        double thr_len = CONV_FRACTION * minlen;
+        if (!(thr_len > CONV_LENGTH_FLOOR))
+            thr_len = CONV_LENGTH_FLOOR;
+        double thr_ang = isfinite(minang) ? CONV_FRACTION * minang : INFINITY;
+        adj->iterations = it;
+        if (lg->max_length < thr_len && lg->max_angle < thr_ang) {
+            /* converged: the full Gauss–Newton step is applied and no
+             * further solve is needed (DEVELOPERS.md "Convergence") */
+            apply_step(adj, x, dx, 1.0, &xt);
+            lg->step = 1.0;
+            lg->mu = 0.0;
+            lg->vtpv = vtpv_at(adj, &xt, w);
+            cairn_xstate_copy(x, &xt, net->nmarks, net->nsetups);
+            converged = 1;
+            if (opt->progress)
+                opt->progress(lg, opt->progress_ctx);
+            break;
+        }
+        /* directional derivative of vᵀPv along dx: g = 2AᵀPv = −2b */
+        const double *b = s->b->x;
+        double gtd = 0;
+        for (int j = 0; j < n; j++)
+            gtd -= 2.0 * b[j] * dx[j];
+        double t = 1.0, ft = INFINITY;
+        int accepted = 0;
+        for (int k = 0; k <= MAX_HALVINGS; k++, t *= 0.5) {
+            apply_step(adj, x, dx, t, &xt);
+            ft = vtpv_at(adj, &xt, w);
+            if (ft <= f0 + ARMIJO_C1 * t * gtd) {
+                accepted = 1;
+                break;
+            }
+        }
+        lg->mu = 0.0;
+        if (!accepted) {
+            /* Levenberg–Marquardt: (N + μ·diag N)Δ = b with μ adapted,
+             * ×10 on failure, ÷10 on success (kept across iterations) */
+            t = 1.0;
+            for (int k = 0; k < LM_TRIES && !accepted; k++) {
+                if ((rc = cairn_solver_factorise(s, mu, adj, err)) ||
+                    (rc = cairn_solver_solve(s, dx, err)))
+                    goto done;
+                apply_step(adj, x, dx, 1.0, &xt);
+                ft = vtpv_at(adj, &xt, w);
+                if (ft < f0) {
+                    accepted = 1;
+                    lg->mu = mu;
+                    mu = mu / 10 > 1e-12 ? mu / 10 : 1e-12;
+                } else {
+                    mu *= 10;
+                }
+            }
+            if (!accepted) {
+                rc = no_convergence(adj, it, lg, ": no step decreases vTPv", err);
+                goto done;
+            }
+        }
+        lg->step = t;
+        lg->vtpv = ft;
+        measure(adj, dx, t, lg);
+        cairn_xstate_copy(x, &xt, net->nmarks, net->nsetups);
+        if (opt->progress)
+            opt->progress(lg, opt->progress_ctx);
+    }
+    if (!converged)
+        rc = no_convergence(adj, adj->iterations,
+                            adj->iterations ? &adj->log[adj->iterations - 1] : NULL,
+                            "", err);
+    else if (opt->refactor_final) {
+        /* factor, σ and design rows at the converged coordinates, for the
+         * quality stage; the residuals are then those of the solution */
+        double f, minlen, minang;
+        if ((rc = linearise_all(adj, x, rows, w, v, &f, &minlen, &minang, err)))
+            goto done;
+        adj->vtpv = f;
+        cairn_solver_assemble(s, rows, nobs, w, v);
+        rc = cairn_solver_factorise(s, 0.0, adj, err);
+    } else {
+        double f, minlen, minang;
+        /* σ and residuals at the solution; the factor stays that of the
+         * last linearisation point */
+        rc = linearise_all(adj, x, NULL, w, v, &f, &minlen, &minang, err);
+        adj->vtpv = f;
+    }
+done:
+    free(w);
+    free(v);
+    free(dx);
+    cairn_xstate_clear(&xt);
+    return rc;
+}
