@@ -83,9 +83,12 @@ int cairn_solve_prepare(cairn_adjustment *adj, cairn_error *err)
 }
 
 /* DEVELOPERS.md "Datum free": A = first plane mark, B = the next; fix e_A,
- * n_A; with any distance fix the one component of B that the rotation moves
- * most (e_B when |Δn| ≥ |Δe|), else both e_B and n_B; fix h of the first
- * height mark. Fixed at the starting values. */
+ * n_A (translation). Azimuth observations fix the rotation and distances
+ * the scale; of B fix only what the observations leave free: the component
+ * that a rotation about A moves most (e_B when |dn| >= |de|) when there is
+ * no azimuth, the other one (moved by a change of scale) when there is no
+ * distance. Fixing more would constrain the shape and change residuals.
+ * Fix h of the first height mark. Fixed at the starting values. */
 static void free_datum(cairn_adjustment *adj)
 {
     const cairn_net *net = adj->net;
@@ -101,19 +104,23 @@ static void free_datum(cairn_adjustment *adj)
         if ((adj->in_adj[m] & CAIRN_H) && hm < 0)
             hm = (int)m;
     }
-    int dist = 0;
-    for (size_t i = 0; i < p->nobs && !dist; i++)
-        dist = p->obs[i].kind == CAIRN_OBS_HORIZ || p->obs[i].kind == CAIRN_OBS_SLOPE;
+    int dist = 0, azi = 0;
+    for (size_t i = 0; i < p->nobs; i++) {
+        cairn_obs_kind k = p->obs[i].kind;
+        dist |= k == CAIRN_OBS_HORIZ || k == CAIRN_OBS_SLOPE;
+        azi |= k == CAIRN_OBS_AZIMUTH;
+    }
     if (a >= 0)
         adj->fixed[a] |= CAIRN_E | CAIRN_N;
     if (b >= 0) {
-        if (dist) {
-            double de = net->marks[b].e - net->marks[a].e;
-            double dn = net->marks[b].n - net->marks[a].n;
-            adj->fixed[b] |= fabs(dn) >= fabs(de) ? CAIRN_E : CAIRN_N;
-        } else {
-            adj->fixed[b] |= CAIRN_E | CAIRN_N;
-        }
+        double de = net->marks[b].e - net->marks[a].e;
+        double dn = net->marks[b].n - net->marks[a].n;
+        unsigned across = fabs(dn) >= fabs(de) ? CAIRN_E : CAIRN_N;
+        unsigned along = across == CAIRN_E ? CAIRN_N : CAIRN_E;
+        if (!azi)
+            adj->fixed[b] |= across;
+        if (!dist)
+            adj->fixed[b] |= along;
     }
     if (hm >= 0)
         adj->fixed[hm] |= CAIRN_H;
