@@ -17,7 +17,9 @@
  * from the linearised direction and distance equations.  The simplicial
  * oracle is timed for N <= 20000 only (it is 10-20x slower by design).
  */
-#define _POSIX_C_SOURCE 199309L
+#ifndef _POSIX_C_SOURCE
+#define _POSIX_C_SOURCE 199309L   /* clock_gettime */
+#endif
 #include "cairn/selinv.h"
 
 #include <cblas.h>
