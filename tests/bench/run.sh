@@ -10,6 +10,13 @@ mkdir -p "$out"
 cc=${CC:-gcc}
 $cc -std=c11 -O2 -Wall -Wextra -o "$out/gen" "$top/tests/bench/gen.c" -lm
 sizes=${BENCH_SIZES:-1000 10000 20000}
+# The selected inverse against one factorisation of the same matrix.
+$cc -std=c11 -O2 -I"$top/include" -I/usr/include/suitesparse \
+    $(pkg-config --cflags openblas lapacke) -o "$out/selinv_bench" \
+    "$top/tests/bench/selinv_bench.c" "$top/build/libcairn.a" -lcholmod -lsuitesparseconfig \
+    $(pkg-config --libs openblas lapacke) -lm
+for n in ${SELINV_SIZES:-10000 100000}; do "$out/selinv_bench" "$n" 3; done
+echo
 printf '%-8s %-10s %-10s %-10s %s\n' marks lines wall_s peak_MB exit
 for n in $sizes; do
     fb=$out/plane-$n.cfb
