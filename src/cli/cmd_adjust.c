@@ -10,6 +10,7 @@
 #include "cairn/cairn.h"
 #include "cairn/solve.h"
 #include "cairn/output.h"
+#include "cairn/start.h"
 #include "cli.h"
 
 void cairn_cli_adjust_help(FILE *out)
@@ -175,6 +176,13 @@ int cairn_cli_adjust(int argc, char **argv)
     if (cairn_problem_build(net, datum_free, &prob, &err)) {
         cairn_cli_print_diags(&err);
         status = CAIRN_EXIT_INPUT;
+        goto out;
+    }
+    /* Starting values for every component the input leaves open; marks
+     * that no observation reaches make the adjustment impossible. */
+    if (cairn_start_compute(net, prob->dimension, NULL, &err)) {
+        cairn_cli_print_diags(&err);
+        status = CAIRN_EXIT_ADJUST;
         goto out;
     }
     if (err.ndiag && !quiet)

@@ -51,7 +51,7 @@ static void local_origin(cairn_adjustment *adj)
     size_t k = 0;
     for (size_t m = 0; m < net->nmarks; m++)
         if ((adj->in_adj[m] & CAIRN_E) &&
-            (net->marks[m].given & (CAIRN_E | CAIRN_N)) == (CAIRN_E | CAIRN_N)) {
+            ((net->marks[m].given | net->marks[m].computed) & (CAIRN_E | CAIRN_N)) == (CAIRN_E | CAIRN_N)) {
             se += net->marks[m].e;
             sn += net->marks[m].n;
             k++;
@@ -65,9 +65,9 @@ static void start_state(const cairn_adjustment *adj, cairn_xstate *x)
     const cairn_net *net = adj->net;
     for (size_t m = 0; m < net->nmarks; m++) {
         const cairn_mark *mk = &net->marks[m];
-        x->e[m] = (mk->given & CAIRN_E) ? mk->e - adj->origin_e : 0.0;
-        x->n[m] = (mk->given & CAIRN_N) ? mk->n - adj->origin_n : 0.0;
-        x->h[m] = (mk->given & CAIRN_H) ? mk->h : 0.0;
+        x->e[m] = ((mk->given | mk->computed) & CAIRN_E) ? mk->e - adj->origin_e : 0.0;
+        x->n[m] = ((mk->given | mk->computed) & CAIRN_N) ? mk->n - adj->origin_n : 0.0;
+        x->h[m] = ((mk->given | mk->computed) & CAIRN_H) ? mk->h : 0.0;
     }
 }
 
@@ -80,11 +80,11 @@ static void results(cairn_adjustment *adj, const cairn_xstate *x)
         unsigned t = adj->in_adj[m];
         /* components that are not unknowns keep their given value exactly */
         adj->e[m] = !(t & CAIRN_E) ? NAN : u[0] >= 0 ? x->e[m] + adj->origin_e
-                  : (mk->given & CAIRN_E) ? mk->e : NAN;
+                  : ((mk->given | mk->computed) & CAIRN_E) ? mk->e : NAN;
         adj->n[m] = !(t & CAIRN_N) ? NAN : u[1] >= 0 ? x->n[m] + adj->origin_n
-                  : (mk->given & CAIRN_N) ? mk->n : NAN;
+                  : ((mk->given | mk->computed) & CAIRN_N) ? mk->n : NAN;
         adj->h[m] = !(t & CAIRN_H) ? NAN : u[2] >= 0 ? x->h[m]
-                  : (mk->given & CAIRN_H) ? mk->h : NAN;
+                  : ((mk->given | mk->computed) & CAIRN_H) ? mk->h : NAN;
     }
     for (size_t s = 0; s < net->nsetups; s++)
         adj->omega[s] = adj->unk_setup[s] >= 0 ? cairn_wrap_2pi(x->omega[s]) : NAN;

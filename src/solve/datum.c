@@ -43,7 +43,7 @@ typedef struct {
 static int lacks_start(const void *ctx, size_t m)
 {
     const cairn_adjustment *adj = ((const starts_ctx *)ctx)->adj;
-    return (adj->in_adj[m] & ~adj->net->marks[m].given) != 0;
+    return (adj->in_adj[m] & ~(adj->net->marks[m].given | adj->net->marks[m].computed)) != 0;
 }
 
 int cairn_solve_check_starts(const cairn_adjustment *adj, cairn_error *err)
@@ -54,8 +54,8 @@ int cairn_solve_check_starts(const cairn_adjustment *adj, cairn_error *err)
     if (!k)
         return 0;
     cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
-                    "no starting coordinates for %s (computed starts are not "
-                    "implemented yet: give e, n and h where observed)", list);
+                    "no starting coordinates for %s (give e, n and h, or "
+                    "observations that reach them)", list);
     return CAIRN_SOLVE_ESTART;
 }
 

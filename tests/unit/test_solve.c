@@ -420,8 +420,8 @@ START_TEST(datum_defects)
     rise(net, a, b, 1, 0.001, 2);
     rise(net, b, c, 1, 0.001, 3);
     ck_assert_int_eq(run(net, 0, &pr, &adj, msg, sizeof msg), CAIRN_SOLVE_ESTART);
-    ck_assert_msg(strstr(msg, "error: no starting coordinates for N7, N8 (computed "
-                              "starts are not implemented yet"), "%s", msg);
+    ck_assert_msg(strstr(msg, "error: no starting coordinates for N7, N8 (give e, n "
+                              "and h, or observations that reach them)"), "%s", msg);
     done(&net, &pr, &adj);
 }
 END_TEST
