@@ -3,6 +3,8 @@
 #
 # For every NAME.expect here, runs `cairn check NAME.cfb` (or NAME.xml)
 # from this directory, so that file names in messages are plain names.
+# When NAME.args exists, its words replace `check` (e.g. `adjust -o @TMP@`;
+# @TMP@ is a scratch directory).
 # NAME.expect: the first line is the expected exit status; every further
 # line is a string that must appear verbatim in stderr, or, when it starts
 # with '!', a string that must not appear. Prints one line per case and
@@ -34,7 +36,12 @@ for exp in *.expect; do
         fail=$((fail + 1))
         continue
     fi
-    "$cairn" check "$input" >"$tmp/out" 2>"$tmp/err"
+    cmd=check
+    if [ -f "$name.args" ]; then
+        cmd=$(sed "s|@TMP@|$tmp/res|g" "$name.args")
+    fi
+    # shellcheck disable=SC2086
+    "$cairn" $cmd "$input" >"$tmp/out" 2>"$tmp/err"
     rc=$?
     want=$(sed -n 1p "$exp")
     why=""
