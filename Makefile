@@ -18,7 +18,8 @@ BUILD    ?= build
 
 # Debian packages (DESIGN.md "Dependencies").
 DEB_PACKAGES = build-essential pkg-config libsuitesparse-dev libopenblas-dev \
-               liblapacke-dev libxml2-dev libgsl-dev check python3-numpy groff-base
+               liblapacke-dev libxml2-dev libgsl-dev check python3-numpy groff-base \
+               valgrind
 
 PKGS         = openblas lapacke libxml-2.0 gsl
 # CHOLMOD has no pkg-config file on Debian 12.
@@ -49,7 +50,8 @@ CLI_OBJ  = $(CLI_SRC:%.c=$(BUILD)/obj/%.o)
 UNIT_BIN = $(UNIT_SRC:tests/unit/%.c=$(BUILD)/tests/%)
 
 .PHONY: all deps check check-unit check-bad check-integration check-asan \
-        demo bench bench-load install uninstall clean man-check test-all
+        demo bench bench-load install uninstall clean man-check test-all \
+        check-sanitizers check-valgrind
 
 all: $(BUILD)/cairn $(BUILD)/libcairn.a
 
@@ -89,7 +91,23 @@ deps:
 check: deps
 	$(MAKE) test-all
 
-test-all: all check-unit check-bad check-integration man-check
+test-all: all check-unit check-bad check-integration man-check check-sanitizers
+
+# Issue #9: the unit, bad-input and integration tests again under
+# AddressSanitizer + UBSan, and the CLI on the demo under valgrind memcheck
+# (zero errors, no leaks definitely lost).
+check-sanitizers:
+	$(MAKE) BUILD=$(BUILD)/asan CFLAGS="$(ASAN_FLAGS)" check-unit check-bad check-integration
+	$(MAKE) check-valgrind
+
+VALGRIND = valgrind --error-exitcode=99 --leak-check=full --errors-for-leak-kinds=definite -q
+check-valgrind: $(BUILD)/cairn
+	@d=$$(mktemp -d); \
+	$(VALGRIND) $(BUILD)/cairn check $(DEMO) >/dev/null; rc=$$?; \
+	if [ $$rc -ge 2 ]; then echo "valgrind: cairn check failed ($$rc)"; rm -rf $$d; exit 1; fi; \
+	$(VALGRIND) $(BUILD)/cairn adjust $(DEMO) -o $$d --quiet; rc=$$?; rm -rf $$d; \
+	if [ $$rc -ge 2 ]; then echo "valgrind: cairn adjust failed ($$rc)"; exit 1; fi; \
+	echo "valgrind: demo check and adjust clean"
 
 check-unit: $(UNIT_BIN)
 	@fail=0; for t in $(UNIT_BIN); do \

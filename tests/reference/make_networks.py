@@ -577,8 +577,124 @@ def net_explicit_sd():
     return [b]
 
 
+def net_resection():
+    b = Book("resection.cfb", ["tests: plane resection (free station): one setup on a new mark whose position the",
+                               "surveyor did not know, directions only to four held pillars (dof 1); the start",
+                               "given for VC is only approximate; Corriebrack visitor centre roof station"],
+             seed=2414)
+    b.instrument("TS1", TS_1S_TEXT, **TS_1S)
+    for mid, e, n, desc in (("AH1", 6185.412, 8410.337, "pillar on Ashlune Hill"),
+                            ("AH2", 6705.108, 7925.620, "pillar at east spillway"),
+                            ("AH3", 6050.774, 7290.118, "pillar by fish ladder"),
+                            ("AH4", 5480.296, 7702.861, "pillar on west dyke")):
+        b.mark(mid, e, n, hold="en", desc=desc)
+    b.mark("VC", 6121.530, 7838.905, desc="roof bolt, visitor centre")
+    b.setup("VC")
+    for to in ("AH1", "AH2", "AH3", "AH4"):
+        b.sight(to)
+    return [b]
+
+
+def net_intersection():
+    b = Book("intersection.cfb", ["tests: plane intersection: three setups on held pillars, each orienting on",
+                                  "another held pillar, directions only (no distances) to two new marks that are",
+                                  "never occupied; Corriebrack intake tower finials"], seed=2515)
+    b.instrument("TS2", "direction 2sec distance 2mm+2ppm centring 1mm",
+                 direction=2 * SEC, dist_a=0.002, dist_b=2.0, centring=0.001)
+    for mid, e, n, desc in (("IT1", 3402.615, 9101.448, "pillar on north shore"),
+                            ("IT2", 3951.207, 9183.072, "pillar at boat slip"),
+                            ("IT3", 3648.930, 8702.556, "pillar on dam crest")):
+        b.mark(mid, e, n, hold="en", desc=desc)
+    for mid, e, n, desc in (("FIN-W", 3618.774, 9597.310, "west finial, intake tower"),
+                            ("FIN-E", 3822.105, 9521.649, "east finial, intake tower")):
+        b.mark(mid, e, n, desc=desc)
+    b.setup("IT1")
+    for to in ("IT2", "FIN-W", "FIN-E"):
+        b.sight(to)
+    b.setup("IT2")
+    for to in ("IT3", "FIN-E", "FIN-W", "IT1"):
+        b.sight(to)
+    b.setup("IT3")
+    for to in ("IT1", "FIN-W", "FIN-E"):
+        b.sight(to)
+    return [b]
+
+
+def net_free_traverse():
+    b = Book("free_traverse.cfb", ["tests: open traverse with no control at all (free network, minimal constraints):",
+                                   "six setups in a chain, backsight and foresight directions, horiz distances",
+                                   "both ways, cross sights for redundancy; Corriebrack north shore path"],
+             seed=2616)
+    b.instrument("TS1", TS_1S_TEXT, **TS_1S)
+    pts = (("NS1", 7600.418, 8200.227), ("NS2", 7785.360, 8311.905), ("NS3", 7990.214, 8290.633),
+           ("NS4", 8150.702, 8420.318), ("NS5", 8355.147, 8468.771), ("NS6", 8520.583, 8390.152))
+    for mid, e, n in pts:
+        b.mark(mid, e, n)
+    plan = (("NS1", ("NS2", "NS3")), ("NS2", ("NS1", "NS3", "NS4")), ("NS3", ("NS2", "NS4", "NS5")),
+            ("NS4", ("NS3", "NS5")), ("NS5", ("NS4", "NS6", "NS3")), ("NS6", ("NS5", "NS4")))
+    for at, tos in plan:
+        b.setup(at)
+        for to in tos:
+            b.sight(to, horiz=True)
+    return [b]
+
+
+def net_loop_traverse():
+    b = Book("loop_traverse.cfb", ["tests: closed loop traverse, 3-D: starts and ends on held pillar LT1, oriented on",
+                                   "held reference mark LT0; five new stations; directions, slope distances and",
+                                   "zenith angles both ways with ih/th; two rises; the one direction to LT0 alone fixes",
+                                   "the loop's rotation (redundancy 0, unchecked); Corriebrack east rim road"],
+             seed=2717)
+    b.instrument("TS1", TS_1S_TEXT, **TS_1S)
+    b.instrument("LV1", "per-km 0.7mm", per_km=0.0007)
+    b.mark("LT0", 9205.336, 3612.874, 251.482, hold="enh", desc="reference pillar on Carn Dubh")
+    b.mark("LT1", 9500.118, 3300.745, 231.206, hold="enh", desc="pillar at rim road gate")
+    for mid, e, n, h in (("L1", 9731.402, 3405.918, 238.447), ("L2", 9905.266, 3260.381, 252.913),
+                         ("L3", 9850.790, 3010.102, 247.305), ("L4", 9620.935, 2905.664, 226.781),
+                         ("L5", 9430.207, 3080.329, 222.530)):
+        b.mark(mid, e, n, h)
+    plan = (("LT1", 1.562, ("LT0", "L1", "L5")), ("L1", 1.498, ("LT1", "L2")), ("L2", 1.541, ("L1", "L3")),
+            ("L3", 1.605, ("L2", "L4")), ("L4", 1.517, ("L3", "L5")), ("L5", 1.533, ("L4", "LT1")))
+    for at, ih, tos in plan:
+        b.setup(at, ih=ih)
+        for to in tos:
+            b.sight(to, zen=True, slope=True, th=1.600 if to != "LT0" else 0.250)
+    b.rise("LT1", "L1", "LV1", km=0.26, name_inst=False)
+    b.rise("L3", "L4", "LV1", km=0.27, name_inst=False)
+    return [b]
+
+
+def net_polar_3d():
+    b = Book("polar_3d.cfb", ["tests: 3-D radiations (polar points): setup on held PR1 oriented on two held pillars,",
+                              "zenith + slope to four new marks, each also observed from held PR2; face-two",
+                              "readings on some; Corriebrack overflow channel monitoring studs"], seed=2818)
+    b.instrument("TS1", TS_1S_TEXT, **TS_1S)
+    for mid, e, n, h, desc in (("PR1", 4700.224, 1500.516, 180.253, "pillar above overflow channel"),
+                               ("PR2", 5060.431, 1622.708, 176.902, "pillar at channel outlet"),
+                               ("PR3", 4540.877, 1890.340, 190.441, "pillar on Tom Beag")):
+        b.mark(mid, e, n, h, hold="enh", desc=desc)
+    for mid, e, n, h in (("ST1", 4810.315, 1655.207, 184.716), ("ST2", 4905.662, 1480.334, 178.108),
+                         ("ST3", 4760.918, 1320.815, 172.627), ("ST4", 4600.270, 1610.493, 186.935)):
+        b.mark(mid, e, n, h)
+    b.setup("PR1", ih=1.547)
+    b.sight("PR2")
+    b.sight("PR3")
+    for to in ("ST1", "ST2", "ST3", "ST4"):
+        b.sight(to, zen=True, slope=True, th=0.100)
+    for to in ("ST1", "ST3"):
+        b.sight(to, zen=True, slope=True, th=0.100, face=2)
+    b.setup("PR2", ih=1.583)
+    b.sight("PR1")
+    b.sight("PR3")
+    for to in ("ST2", "ST1", "ST4", "ST3"):
+        b.sight(to, zen=True, slope=True, th=0.100)
+    b.sight("ST2", zen=True, slope=True, th=0.100, face=2)
+    return [b]
+
+
 ALL = (net_levelling, net_trilateration, net_dirs_dists, net_angles_azimuths, net_threed,
-       net_usft_gon, net_ft_deg, net_weighted, net_free, net_dim1, net_dim2, net_grid, net_explicit_sd)
+       net_usft_gon, net_ft_deg, net_weighted, net_free, net_dim1, net_dim2, net_grid, net_explicit_sd,
+       net_resection, net_intersection, net_free_traverse, net_loop_traverse, net_polar_3d)
 
 
 def main(argv):
