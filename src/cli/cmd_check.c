@@ -1,10 +1,20 @@
 /* `cairn check PROJECT [-o DIR]`: load and validate a project, print the
- * diagnostics and a short summary of what was read. No adjustment. */
+ * diagnostics, a short summary of what was read and the field-book
+ * misclosures (include/cairn/misclosure.h), and write them to
+ * DIR/misclosures.csv when -o is given. No adjustment. A misclosure fails
+ * above three expected standard deviations (common practice, no source) or
+ * above the project's loop-allowance. */
+#include <math.h>
 #include <stdio.h>
 #include <string.h>
 
 #include "cairn/cairn.h"
+#include "cairn/misclosure.h"
 #include "cli.h"
+
+/* The table is at most this wide: a route that does not fit goes on
+ * indented continuation lines. */
+#define TABLE_WIDTH 100
 
 void cairn_cli_check_help(FILE *out)
 {
@@ -13,7 +23,13 @@ void cairn_cli_check_help(FILE *out)
             "Load a project file (.xml) or a single field book (.cfb), check every\n"
             "record and print a summary of the network. Nothing is adjusted.\n\n"
             "  -o DIR   directory for field-book misclosures (misclosures.csv)\n\n"
-            "exit status: 0 the input is valid (warnings allowed); 2 usage or input error.\n");
+            "Misclosures: level loops and lines between held heights, traverses\n"
+            "between held marks, face one against face two, agreement of direction\n"
+            "sets and of repeated distances, each against its expected standard\n"
+            "deviation from the instruments. A check fails above three expected\n"
+            "standard deviations (common practice) or above the loop-allowance.\n\n"
+            "exit status: 0 the input is valid and every check passes (warnings\n"
+            "allowed); 1 a misclosure check failed; 2 usage or input error.\n");
 }
 
 /* Whether the project file is XML, by the loader's rule (first non-blank
@@ -74,6 +90,150 @@ static void summary(const cairn_net *net, int project_is_xml)
     printf("field books read: %zu\n", books);
 }
 
+/* The file part of a path: the table shows short sources (the CSV keeps
+ * the path as given). */
+static const char *base_name(const char *path)
+{
+    const char *b = strrchr(path, '/');
+    return b ? b + 1 : path;
+}
+
+/* A length (m) or angle (rad) in the display unit of kind k, signed. */
+static void value_str(char *buf, size_t n, const cairn_net *net, cairn_misc_kind k,
+                      double x, int sign)
+{
+    if (!isfinite(x)) {
+        snprintf(buf, n, "-");
+        return;
+    }
+    if (cairn_misc_kind_angular(k))
+        snprintf(buf, n, sign ? "%+.1f\"" : "%.1f\"", x * CAIRN_RHO_SEC);
+    else
+        snprintf(buf, n, sign ? "%+.4f %s" : "%.4f %s",
+                 x / cairn_length_factor(net->length_unit),
+                 cairn_length_unit_name(net->length_unit));
+}
+
+static void print_row(const cairn_net *net, const cairn_misclosures *m,
+                      const cairn_misclosure *it)
+{
+    char kind[24], mis[32], len[32], sd[32], ratio[16], src[80], line[TABLE_WIDTH + 96];
+    snprintf(kind, sizeof kind, "%s%s", cairn_misc_kind_name(it->kind),
+             it->reading == CAIRN_MISC_HZ ? " hz" : it->reading == CAIRN_MISC_ZEN ? " zen" : "");
+    value_str(mis, sizeof mis, net, it->kind, it->misclosure, 1);
+    if (isfinite(it->length))
+        snprintf(len, sizeof len, "%.1f %s", it->length / cairn_length_factor(net->length_unit),
+                 cairn_length_unit_name(net->length_unit));
+    else
+        snprintf(len, sizeof len, "-");
+    value_str(sd, sizeof sd, net, it->kind, it->expected_sd, 0);
+    if (isfinite(it->ratio))
+        snprintf(ratio, sizeof ratio, "%.2f", it->ratio);
+    else
+        snprintf(ratio, sizeof ratio, "-");
+    if (it->src.file)
+        snprintf(src, sizeof src, "%s:%d", base_name(it->src.file), it->src.line);
+    else
+        snprintf(src, sizeof src, "-");
+    int w = snprintf(line, sizeof line, "%-16s %11s %10s %9s %6s %-4s  %s", kind, mis, len,
+                     sd, ratio, it->fail ? "FAIL" : "ok", src);
+    size_t used = w > 0 ? (size_t)w : 0;
+    fputs(line, stdout);
+    /* The route follows on the same line when it fits, else on indented
+     * continuation lines, wrapped at TABLE_WIDTH. */
+    size_t rlen = 0;
+    for (size_t r = 0; r < it->nroute; r++) {
+        int mk = m->route[it->route + r];
+        rlen += strlen(mk >= 0 ? net->marks[mk].id : "?") + 1;
+    }
+    const size_t indent = 4;
+    int newline = used + 1 + rlen > TABLE_WIDTH;
+    if (newline) {
+        printf("\n%*s", (int)indent, "");
+        used = indent;
+    }
+    for (size_t r = 0; r < it->nroute; r++) {
+        int mk = m->route[it->route + r];
+        const char *id = mk >= 0 ? net->marks[mk].id : "?";
+        if (used + 1 + strlen(id) > TABLE_WIDTH && used > indent) {
+            printf("\n%*s", (int)indent, "");
+            used = indent;
+        } else if (!(newline && used == indent)) {
+            putchar(' ');
+            used++;
+        }
+        fputs(id, stdout);
+        used += strlen(id);
+    }
+    putchar('\n');
+}
+
+/* The misclosure table, then the traverse closures and the instrument
+ * errors the face pairs show. */
+static void print_misclosures(const cairn_net *net, const cairn_misclosures *m)
+{
+    if (!m->n) {
+        printf("no misclosure checks apply\n");
+        return;
+    }
+    printf("\nmisclosures: %zu check%s, %zu failed (limit: 3 expected SD", m->n,
+           m->n == 1 ? "" : "s", m->nfail);
+    if (net->opt.has_loop_allowance)
+        printf("; levelling allowance %.1f mm per sqrt(km)", net->opt.loop_allowance * 1000.0);
+    printf(")\n");
+    printf("%-16s %11s %10s %9s %6s %-4s  %s\n", "check", "misclosure", "length",
+           "expected", "ratio", "", "source, route");
+    for (size_t i = 0; i < m->n; i++)
+        print_row(net, m, &m->item[i]);
+    for (size_t i = 0; i < m->n; i++) {
+        const cairn_misclosure *it = &m->item[i];
+        if (it->kind != CAIRN_MISC_TRAVERSE_LINEAR || it->nroute < 2)
+            continue;
+        char de[32], dn[32];
+        value_str(de, sizeof de, net, it->kind, it->de, 1);
+        value_str(dn, sizeof dn, net, it->kind, it->dn, 1);
+        printf("traverse %s to %s: de %s, dn %s, ", net->marks[m->route[it->route]].id,
+               net->marks[m->route[it->route + it->nroute - 1]].id, de, dn);
+        if (isfinite(it->precision))
+            printf("precision 1 : %.0f\n", it->precision);
+        else
+            printf("closes exactly\n");
+    }
+    for (size_t i = 0; i < m->nface; i++) {
+        const cairn_face_error *fe = &m->face[i];
+        const cairn_setup *s = &net->setups[fe->setup];
+        printf("setup at %s (%s:%d):", net->marks[s->at].id,
+               s->src.file ? base_name(s->src.file) : "-", s->src.line);
+        if (fe->npairs_hz)
+            printf(" collimation %+.1f\" (%d pair%s)", fe->collimation * CAIRN_RHO_SEC,
+                   fe->npairs_hz, fe->npairs_hz == 1 ? "" : "s");
+        if (fe->npairs_zen)
+            printf("%s vertical index %+.1f\" (%d pair%s)", fe->npairs_hz ? "," : "",
+                   fe->index_error * CAIRN_RHO_SEC, fe->npairs_zen,
+                   fe->npairs_zen == 1 ? "" : "s");
+        putchar('\n');
+    }
+}
+
+/* Misclosures of a valid net: print them, write DIR/misclosures.csv when
+ * asked. Returns the exit status. */
+static int misclosures(const cairn_net *net, const char *outdir, cairn_error *err)
+{
+    cairn_misclosures *m = NULL;
+    if (cairn_misclosures_compute(net, &m, err)) {
+        cairn_cli_print_diags(err);
+        return CAIRN_EXIT_INPUT;
+    }
+    print_misclosures(net, m);
+    int status = m->nfail ? CAIRN_EXIT_FLAGGED : CAIRN_EXIT_OK;
+    if (outdir && cairn_write_misclosures(outdir, net, m, err)) {
+        cairn_cli_print_diags(err);
+        status = CAIRN_EXIT_INPUT;
+    }
+    cairn_misclosures_free(&m);
+    return status;
+}
+
 int cairn_cli_check(int argc, char **argv)
 {
     const char *project = NULL, *outdir = NULL;
@@ -121,6 +281,8 @@ int cairn_cli_check(int argc, char **argv)
         status = CAIRN_EXIT_INPUT;
     } else {
         summary(net, is_xml(project));
+        cairn_error_reset(&err);
+        status = misclosures(net, outdir, &err);
     }
     cairn_net_free(&net);
     cairn_error_clear(&err);
