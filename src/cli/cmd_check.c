@@ -10,6 +10,7 @@
 
 #include "cairn/cairn.h"
 #include "cairn/misclosure.h"
+#include "cairn/start.h"
 #include "cli.h"
 
 /* The table is at most this wide: a route that does not fit goes on
@@ -28,8 +29,11 @@ void cairn_cli_check_help(FILE *out)
             "sets and of repeated distances, each against its expected standard\n"
             "deviation from the instruments. A check fails above three expected\n"
             "standard deviations (common practice) or above the loop-allowance.\n\n"
+            "Starting coordinates: the marks whose coordinates the adjustment will\n"
+            "compute from the observations are listed with the way each was found.\n\n"
             "exit status: 0 the input is valid and every check passes (warnings\n"
-            "allowed); 1 a misclosure check failed; 2 usage or input error.\n");
+            "allowed); 1 a misclosure check failed; 2 usage or input error;\n"
+            "3 some marks cannot be reached by any observation (named).\n");
 }
 
 /* Whether the project file is XML, by the loader's rule (first non-blank
@@ -215,6 +219,37 @@ static void print_misclosures(const cairn_net *net, const cairn_misclosures *m)
     }
 }
 
+/* Starting values the adjustment will compute, and from what (issue #4):
+ * one line per computed step. Returns 0, or CAIRN_EXIT_ADJUST when some
+ * marks cannot be reached (the error names them). */
+static int starts(cairn_net *net, cairn_error *err)
+{
+    cairn_start_report *rep = NULL;
+    int rc = cairn_start_compute(net, 0, &rep, err);
+    cairn_cli_print_diags(err);
+    size_t n = cairn_start_report_count(rep);
+    if (n) {
+        printf("\ncomputed starting values (%zu):\n", n);
+        for (size_t i = 0; i < n; i++) {
+            const cairn_start_step *st = cairn_start_report_step(rep, i);
+            const cairn_obs *o = st->obs1 >= 0 ? &net->obs[st->obs1] : NULL;
+            char ways[32] = "";
+            if (st->ncand > 1)
+                snprintf(ways, sizeof ways, ", median of %d ways", st->ncand);
+            printf("  %-16s %-4s %s%s", net->marks[st->mark].id,
+                   st->comp & CAIRN_H ? (st->comp & CAIRN_E ? "enh" : "h") : "en",
+                   st->method, ways);
+            if (o && o->src.file)
+                printf(" (%s:%d)", base_name(o->src.file), o->src.line);
+            printf("\n");
+        }
+    } else if (!rc) {
+        printf("\ncomputed starting values: none needed\n");
+    }
+    cairn_start_report_free(&rep);
+    return rc ? CAIRN_EXIT_ADJUST : 0;
+}
+
 /* Misclosures of a valid net: print them, write DIR/misclosures.csv when
  * asked. Returns the exit status. */
 static int misclosures(const cairn_net *net, const char *outdir, cairn_error *err)
@@ -282,7 +317,11 @@ int cairn_cli_check(int argc, char **argv)
     } else {
         summary(net, is_xml(project));
         cairn_error_reset(&err);
+        int st = starts(net, &err);
+        cairn_error_reset(&err);
         status = misclosures(net, outdir, &err);
+        if (st)
+            status = st;
     }
     cairn_net_free(&net);
     cairn_error_clear(&err);
