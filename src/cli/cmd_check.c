@@ -32,8 +32,8 @@ void cairn_cli_check_help(FILE *out)
             "Starting coordinates: the marks whose coordinates the adjustment will\n"
             "compute from the observations are listed with the way each was found.\n\n"
             "exit status: 0 the input is valid and every check passes (warnings\n"
-            "allowed); 1 a misclosure check failed; 2 usage or input error;\n"
-            "3 some marks cannot be reached by any observation (named).\n");
+            "allowed); 1 a misclosure check failed; 2 usage or input error.\n"
+            "Marks no observation reaches are named in a warning.\n");
 }
 
 /* Whether the project file is XML, by the loader's rule (first non-blank
@@ -220,12 +220,23 @@ static void print_misclosures(const cairn_net *net, const cairn_misclosures *m)
 }
 
 /* Starting values the adjustment will compute, and from what (issue #4):
- * one line per computed step. Returns 0, or CAIRN_EXIT_ADJUST when some
- * marks cannot be reached (the error names them). */
+ * one line per computed step; marks that cannot be reached are named in a
+ * warning. Returns 0. */
 static int starts(cairn_net *net, cairn_error *err)
 {
     cairn_start_report *rep = NULL;
     int rc = cairn_start_compute(net, 0, &rep, err);
+    /* check only validates: marks that no observation reaches are a
+     * warning here; `cairn adjust` stops on them with exit 3. */
+    for (int i = 0; i < err->ndiag; i++)
+        if (err->diag[i].severity == CAIRN_SEV_ERROR) {
+            err->diag[i].severity = CAIRN_SEV_WARNING;
+            err->nerrors--;
+            err->nwarnings++;
+            size_t len = strlen(err->diag[i].message);
+            snprintf(err->diag[i].message + len, sizeof err->diag[i].message - len,
+                     "; cairn adjust cannot run until they are reached");
+        }
     cairn_cli_print_diags(err);
     size_t n = cairn_start_report_count(rep);
     if (n) {
@@ -247,7 +258,7 @@ static int starts(cairn_net *net, cairn_error *err)
         printf("\ncomputed starting values: none needed\n");
     }
     cairn_start_report_free(&rep);
-    return rc ? CAIRN_EXIT_ADJUST : 0;
+    return 0;
 }
 
 /* Misclosures of a valid net: print them, write DIR/misclosures.csv when

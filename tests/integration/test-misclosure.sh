@@ -20,10 +20,10 @@ fail=0
 
 # run NAME EXPECTED-EXIT: cairn check misclosure/NAME.cfb -o $tmp/NAME
 run() {
-    (cd "$here/misclosure" && "$CAIRN" check "$1.cfb" -o "$tmp/$1") >"$tmp/$1.out" 2>&1
+    (cd "$here/misclosure" && "$CAIRN" check "$1.cfb" -o "$tmp/$1") >"$tmp/$1.out" 2>"$tmp/$1.err"
     rc=$?
     if [ "$rc" -ne "$2" ]; then
-        echo "FAIL $1: exit $rc, expected $2"; sed 's/^/    /' "$tmp/$1.out"; fail=1
+        echo "FAIL $1: exit $rc, expected $2"; cat "$tmp/$1.out" "$tmp/$1.err" | sed 's/^/    /'; fail=1
         return 1
     fi
     echo "ok   $1: exit $rc"
