@@ -15,7 +15,7 @@
 
 #include "cairn/core.h"
 #include "cairn/solve.h"
-#include "cairn/quality.h"   /* cairn_obs_status */
+#include "cairn/quality.h"   /* cairn_obs_status, cairn_analysis */
 
 /* ------------------------------------------------------------------ */
 /* Atomic writing of a set of files into one directory                 */
@@ -73,5 +73,36 @@ int cairn_write_observations_csv(FILE *f, const cairn_adjustment *adj,
 int cairn_write_csv_results(const char *dir, const cairn_adjustment *adj,
                             const cairn_mark_quality *mq,
                             const cairn_obs_quality *oq, cairn_error *err);
+
+/** The quality columns of both CSV files from an analysis (pointers into
+ *  an; valid while it lives). */
+void cairn_analysis_quality(const cairn_analysis *an, cairn_mark_quality *pmq,
+                            cairn_obs_quality *poq);
+
+/* ------------------------------------------------------------------ */
+/* results.xml                                                         */
+/* ------------------------------------------------------------------ */
+
+/** Write results.xml (FORMAT.md "Result files"; the schema is
+ *  share/cairn-results.xsd): the summary with the global test, the
+ *  rejections of data snooping, every mark with its covariance block,
+ *  every observation with its reliability, every observed pair with its
+ *  relative ellipse and tolerance. Returns 0, or -1 on a write error. */
+int cairn_write_results_xml(FILE *f, const cairn_adjustment *adj,
+                            const cairn_analysis *an);
+
+/** Result formats (`--format`). */
+enum {
+    CAIRN_FORMAT_TXT = 1, CAIRN_FORMAT_HTML = 2, CAIRN_FORMAT_CSV = 4,
+    CAIRN_FORMAT_XML = 8
+};
+
+/** Write the result files asked for in `formats` (CAIRN_FORMAT_* bits)
+ *  into dir as one atomic set: marks.csv and observations.csv (CSV),
+ *  results.xml (XML). TXT and HTML are not written yet (a later issue).
+ *  Returns 0, or -1 with a message. */
+int cairn_write_results(const char *dir, const cairn_adjustment *adj,
+                        const cairn_analysis *an, unsigned formats,
+                        cairn_error *err);
 
 #endif

@@ -7,8 +7,10 @@
  *   3. Precision (ellipses, scale factors, r95)   src/quality/ellipse.c
  *   4. Reliability (redundancy, w, MDB)           src/quality/reliability.c
  *   5. Tolerances and allowances                  src/quality/reliability.c
- *   6. Selected inverse                           (to be folded in from selinv.h)
- *   7. Data snooping                              (to come)
+ *   6. Analysis of an adjustment: precision,      src/quality/analysis.c,
+ *      reliability, relative precision           analysis_mark.c, pairs.c
+ *   7. Data snooping                              src/quality/snoop.c
+ *   (the selected inverse itself: cairn/selinv.h)
  *
  * Everything in sections 1–5 is a pure function: no allocation, no global
  * state, thread-safe. These are numerical kernels, so a value outside the
@@ -26,6 +28,8 @@
 #define CAIRN_QUALITY_H
 
 #include <stddef.h>
+
+#include "cairn/solve.h"
 
 #ifdef __cplusplus
 extern "C" {
@@ -241,6 +245,183 @@ int cairn_tolerance_check(double semi_major, double dist, double a,
  *  (0.004, 9) → 0.012 (FGCC 1984 first-order class I loop). NaN for
  *  negative or non-finite input. */
 double cairn_level_allowance(double m_per_sqrt_km, double km);
+
+/* ------------------------------------------------------------------ */
+/* 6. Analysis of an adjustment                                        */
+/* ------------------------------------------------------------------ */
+
+/* Sections 6 and 7 are not pure: cairn_analyse allocates, computes the
+ * selected inverse of the adjustment's factor (cairn/selinv.h) and, when
+ * snooping iterates, re-adjusts. Ownership: cairn_analyse creates the
+ * analysis, cairn_analysis_free releases it. The analysis points at, but
+ * does not own, the adjustment (which must outlive it).
+ *
+ * All quantities are in metres and radians, like the adjustment; the
+ * writers convert to project units. A value that does not exist (a
+ * component not in the adjustment, the w of an unchecked observation) is
+ * NAN. */
+
+/** Data snooping mode (`--snoop`). */
+typedef enum {
+    CAIRN_SNOOP_ITERATE = 0, /**< reject the largest failing test, re-adjust, repeat */
+    CAIRN_SNOOP_FLAG = 1,    /**< flag every failing test, reject nothing */
+    CAIRN_SNOOP_OFF = 2      /**< report w and mdb; flag and reject nothing */
+} cairn_snoop_mode;
+
+/** Options of cairn_analyse; cairn_analysis_options_default sets the
+ *  defaults given with each field. The levels (confidence, alpha, power,
+ *  global-alpha, tolerance) come from the net's options. */
+typedef struct {
+    cairn_snoop_mode snoop;     /**< default CAIRN_SNOOP_ITERATE */
+    int scale_aposteriori;      /**< 1: scale precision by σ0² a posteriori with F
+                                     and t factors, and test with Pope's τ instead of
+                                     w (`--scale-by-aposteriori`); default 0 */
+    double max_reject_fraction; /**< iterate rejects at most floor(fraction · nobs)
+                                     observations; default 0.10 (DESIGN.md) */
+    int time_phases;            /**< 1: measure the selected inverse and one
+                                     factorisation for the bench; default 0 */
+} cairn_analysis_options;
+
+void cairn_analysis_options_default(cairn_analysis_options *opt);
+
+/** Relative precision of two marks joined by an observation, from
+ *  Qii + Qjj − 2Qij (plane block) and the same for h. */
+typedef struct {
+    int from, to;          /**< mark indices, from < to in mark order */
+    int obs;               /**< first observation joining them (problem index) */
+    int plane;             /**< 1 when both have e, n in the adjustment */
+    int height;            /**< 1 when both have h in the adjustment */
+    int available;         /**< 0 when a Qij entry lies outside the factor
+                                pattern (then nothing below is computed) */
+    double distance;       /**< m, plane distance of the adjusted marks (NAN if !plane) */
+    cairn_ellipse ellipse; /**< relative ellipse at the confidence level (plane) */
+    double sd_dh;          /**< m, sd of h_to − h_from (height), else NAN */
+    double dh_interval;    /**< m, half-width of its interval at the confidence level */
+    double allowed;        /**< m, a + b ppm · distance; NAN without a tolerance */
+    int pass;              /**< 1 ellipse.a ≤ allowed, 0 above, -1 not tested */
+} cairn_pair;
+
+/** One observation rejected by iterative snooping, in rejection order. */
+typedef struct {
+    size_t obs;            /**< problem index (seq − 1) */
+    int round;             /**< 1-based snooping round */
+    double w;              /**< its w when rejected */
+    double tau;            /**< its τ = w / σ0 a posteriori when rejected (NAN unless
+                                scale_aposteriori) */
+    double r;              /**< its redundancy number when rejected */
+    double nabla;          /**< estimated blunder ∇ = −v / r when rejected (m or rad):
+                                booked minus fitted, over r */
+} cairn_rejection;
+
+/** Result of cairn_analyse. Per-mark arrays have net->nmarks entries,
+ *  per-observation arrays prob->nobs, in problem order. */
+typedef struct cairn_analysis {
+    const cairn_adjustment *adj;
+    cairn_snoop_mode snoop;
+    int scale_aposteriori;
+
+    /* levels and factors */
+    double confidence;      /**< net option */
+    double alpha, power, global_alpha;
+    double lambda0;         /**< cairn_lambda0(alpha, power) */
+    double wcrit;           /**< cairn_w_critical(alpha) */
+    double taucrit;         /**< cairn_tau_critical(alpha, dof) (scale_aposteriori), else NAN */
+    double variance_factor; /**< 1, or σ0² a posteriori when scale_aposteriori */
+    double k2;              /**< 2-D factor: cairn_ellipse_scale(_f) */
+    double k1;              /**< 1-D factor: cairn_interval_scale(_t) */
+    double k3;              /**< 3-D factor: √χ²(confidence; 3) or √(3 F(confidence; 3, dof)) */
+
+    /* summary of the final adjustment (after any rejections) */
+    size_t nobs;            /**< all observations, rejected ones included */
+    size_t nused;           /**< nobs − rejected */
+    int dof;                /**< nused − unknowns */
+    double vtpv;
+    cairn_global_result global;
+    double sum_r;           /**< Σ r over the observations used (== dof) */
+    int nflagged, nunchecked;
+
+    /* per mark (variance factor applied) */
+    double *sd_e, *sd_n, *sd_h;           /**< m */
+    double *major, *minor, *azimuth;      /**< absolute ellipse at k2; rad for azimuth */
+    double *h_interval;                   /**< m, k1 · sd_h */
+    double *cov;           /**< 6 per mark: ee en eh nn nh hh (m²), NAN where absent */
+    double *axes3;         /**< 3 per mark: k3 · √λ, descending (e, n, h all unknowns) */
+    double *dirs3;         /**< 9 per mark: unit vectors of those axes */
+
+    /* per observation */
+    double *r, *w, *mdb, *nabla;
+    double *tau;           /**< w / σ0 a posteriori (scale_aposteriori), else NAN */
+    double *external;      /**< m: largest coordinate shift of the unknowns it touches
+                                caused by a blunder of size mdb (see analysis.c) */
+    cairn_obs_status *status;
+
+    /* relative precision and tolerance */
+    cairn_pair *pairs;
+    size_t npairs;
+    size_t npairs_unavailable; /**< pairs whose Qij lies outside the pattern */
+    int has_tolerance;
+    double tol_a, tol_ppm;  /**< m, ppm */
+    int tolerance_pass;     /**< 1 every tested pair passes, 0 some fails, -1 none tested */
+    size_t tolerance_failed;
+
+    /* snooping */
+    cairn_rejection *rejections;
+    size_t nrejections;
+    size_t max_rejections;  /**< floor(max_reject_fraction · nobs) */
+    int reject_limit_hit;   /**< 1 when tests still failed at the limit */
+    int snoop_rounds;       /**< re-adjustments made */
+    int snoop_iterations;   /**< Gauss–Newton iterations of those re-adjustments */
+    int snoop_factorisations;
+
+    /* timings (time_phases), seconds; NAN when not measured */
+    double selinv_seconds, factor_seconds;
+} cairn_analysis;
+
+/** Status of cairn_analyse, beyond 0 and the solve statuses. */
+enum {
+    CAIRN_ANALYSIS_EINTERNAL = -20  /**< Σr ≠ dof, a selected-inverse failure (a bug) */
+};
+
+/** Quality of the adjustment: selected inverse of its factor (a priori
+ *  σ0 = 1), standard deviations, absolute and relative ellipses,
+ *  tolerance, global test, redundancy numbers, w (or τ), MDB, external
+ *  reliability, and data snooping as opt->snoop asks.
+ *
+ *  With CAIRN_SNOOP_ITERATE the adjustment is changed in place: after
+ *  each rejection adj's coordinates, orientations, computed values,
+ *  residuals, σ, vtpv, dof and sigma0_sq describe the adjustment without
+ *  the rejected observations (the residual of a rejected observation is
+ *  its misfit to that solution). adj's own factor is not changed (it
+ *  stays that of the first solution); the analysis keeps what it needs.
+ *  adj must still hold its CHOLMOD factor (cairn_adjustment_factor).
+ *
+ *  opt may be NULL for the defaults. Returns 0 and *pan; or a negative
+ *  status (CAIRN_SOLVE_* for a failed re-adjustment, CAIRN_ANALYSIS_EINTERNAL)
+ *  with *pan NULL and a message in err. */
+int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
+                  cairn_analysis **pan, cairn_error *err);
+
+void cairn_analysis_free(cairn_analysis **pan);
+
+/** True when the analysis calls for exit status 1 (FORMAT.md): the global
+ *  test failed, or an observation was flagged or rejected. A failed
+ *  tolerance is reported but does not change the exit status. */
+int cairn_analysis_alarm(const cairn_analysis *an);
+
+/* ------------------------------------------------------------------ */
+/* 7. Data snooping                                                    */
+/* ------------------------------------------------------------------ */
+
+/* Iterative data snooping (Baarda 1968) is run by cairn_analyse with
+ * CAIRN_SNOOP_ITERATE: test, reject the observation with the largest
+ * |w| (|τ| with scale_aposteriori) above the critical value, re-adjust,
+ * repeat until none is left or max_rejections are gone. Each rejection is
+ * listed in cairn_analysis.rejections. The re-adjustment starts from the
+ * previous solution: its first step is the exact Gauss–Newton step of the
+ * network without the observation, taken from the previous factor by the
+ * Sherman–Morrison formula (one solve, no refactorisation); further steps
+ * and the final factor for the selected inverse factorise afresh on the
+ * symbolic analysis of the adjustment (snoop.c explains the choice). */
 
 #ifdef __cplusplus
 }

@@ -1,7 +1,8 @@
 /* `cairn adjust PROJECT [-o DIR] [--datum held|free] [--snoop MODE]
- *  [--format LIST] [--quiet]`: load, build the problem, adjust, write the
- * CSV results atomically, print a short summary. Exit codes: enum
- * cairn_exit (core.h). */
+ *  [--scale-by-aposteriori] [--format LIST] [--quiet]`: load, build the
+ * problem, adjust, analyse (tests, precision, snooping), write the results
+ * atomically, print a summary. Exit codes: enum cairn_exit (core.h). */
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -17,20 +18,32 @@ void cairn_cli_adjust_help(FILE *out)
 {
     fprintf(out,
             "usage: cairn adjust PROJECT [-o DIR] [--datum held|free]\n"
-            "                    [--snoop flag|iterate|off] [--format LIST] [--quiet]\n\n"
+            "                    [--snoop flag|iterate|off] [--scale-by-aposteriori]\n"
+            "                    [--format LIST] [--quiet]\n\n"
             "Adjust the network of PROJECT (an XML project or a field book) by\n"
-            "least squares and write the results into DIR.\n\n"
+            "least squares, test it and write the results into DIR.\n\n"
             "  -o DIR          results directory (default: results/ beside PROJECT)\n"
             "  --datum held    use the held and weighted control as given (default)\n"
             "  --datum free    ignore holds and weights; the program fixes a minimal\n"
             "                  set of components and names them\n"
-            "  --snoop MODE    data snooping: flag, iterate or off (accepted; the\n"
-            "                  tests come with the quality stage)\n"
-            "  --format LIST   comma-separated from txt,html,csv,xml (accepted; only\n"
-            "                  csv is written so far: marks.csv, observations.csv)\n"
+            "  --snoop iterate data snooping (default): remove the observation whose\n"
+            "                  w-test fails worst, re-adjust, repeat until every test\n"
+            "                  passes (at most 10 %% of the observations are removed)\n"
+            "  --snoop flag    mark every observation whose w-test fails; remove none\n"
+            "  --snoop off     report w and mdb, but flag and remove nothing\n"
+            "  --scale-by-aposteriori\n"
+            "                  scale standard deviations and ellipses by the a\n"
+            "                  posteriori variance factor (F and t factors) and test\n"
+            "                  observations with Pope's tau instead of w\n"
+            "  --format LIST   comma-separated from txt,html,csv,xml (default: all);\n"
+            "                  csv writes marks.csv and observations.csv, xml writes\n"
+            "                  results.xml; txt and html are accepted but not written\n"
+            "                  yet (the reports come in a later version)\n"
             "  --quiet         print nothing but errors\n\n"
-            "exit status: 0 adjusted; 2 usage or input error; 3 the adjustment\n"
-            "could not be made (datum defect, undetermined marks, divergence).\n");
+            "exit status: 0 adjusted, global test passed, nothing flagged or removed;\n"
+            "1 adjusted, but the global test failed or observations were flagged or\n"
+            "removed; 2 usage or input error; 3 the adjustment could not be made\n"
+            "(datum defect, undetermined marks, divergence).\n");
 }
 
 static int usage_error(const char *msg, const char *arg)
@@ -40,15 +53,23 @@ static int usage_error(const char *msg, const char *arg)
     return CAIRN_EXIT_INPUT;
 }
 
-static int valid_formats(const char *list)
+/* CAIRN_FORMAT_* bits of a list such as "csv,xml"; 0 when invalid. */
+static unsigned parse_formats(const char *list)
 {
     char buf[256];
+    unsigned m = 0;
+    if (strlen(list) >= sizeof buf)
+        return 0;
     snprintf(buf, sizeof buf, "%s", list);
     for (char *save = NULL, *t = strtok_r(buf, ",", &save); t;
-         t = strtok_r(NULL, ",", &save))
-        if (strcmp(t, "txt") && strcmp(t, "html") && strcmp(t, "csv") && strcmp(t, "xml"))
-            return 0;
-    return list[0] != 0;
+         t = strtok_r(NULL, ",", &save)) {
+        if (!strcmp(t, "txt")) m |= CAIRN_FORMAT_TXT;
+        else if (!strcmp(t, "html")) m |= CAIRN_FORMAT_HTML;
+        else if (!strcmp(t, "csv")) m |= CAIRN_FORMAT_CSV;
+        else if (!strcmp(t, "xml")) m |= CAIRN_FORMAT_XML;
+        else return 0;
+    }
+    return m;
 }
 
 /* results/ beside the project file */
@@ -84,7 +105,31 @@ static const char *comp_name(unsigned c)
     return c == CAIRN_E ? "e" : c == CAIRN_N ? "n" : "h";
 }
 
-static void summary(const cairn_adjustment *adj, const char *dir)
+static void files_line(const char *dir, unsigned formats)
+{
+    printf("  results             ");
+    if (formats & CAIRN_FORMAT_CSV)
+        printf(" %s/marks.csv %s/observations.csv", dir, dir);
+    if (formats & CAIRN_FORMAT_XML)
+        printf(" %s/results.xml", dir);
+    if (formats & (CAIRN_FORMAT_TXT | CAIRN_FORMAT_HTML))
+        printf(" (txt and html reports: not written by this version)");
+    printf("\n");
+}
+
+/* A residual-like value in its unit for the screen: arc-seconds for angles,
+ * the project length unit otherwise. */
+static void print_obs_value(const cairn_net *net, const cairn_obs *o, double x)
+{
+    if (cairn_obs_kind_angular(o->kind))
+        printf("%.2f\"", x * CAIRN_RHO_SEC);
+    else
+        printf("%.4f %s", x / cairn_length_factor(net->length_unit),
+               cairn_length_unit_name(net->length_unit));
+}
+
+static void summary(const cairn_adjustment *adj, const cairn_analysis *an,
+                    const char *dir, unsigned formats)
 {
     const cairn_net *net = adj->net;
     const cairn_problem *p = adj->prob;
@@ -96,16 +141,83 @@ static void summary(const cairn_adjustment *adj, const char *dir)
            p->dimension == 1 ? " (heights)" :
            p->dimension == 3 ? " (positions and heights together)" :
            p->heights ? " (plane, with a separate height part)" : " (plane)");
-    printf("  observations         %zu\n", adj->nobs);
+    printf("  observations         %zu", an->nobs);
+    if (an->nrejections)
+        printf(" (%zu used, %zu removed by snooping)", an->nused, an->nrejections);
+    printf("\n");
     printf("  unknowns             %d (%d coordinates, %d orientations)\n",
            adj->nunknowns, adj->nunknowns - norient, norient);
-    printf("  degrees of freedom   %d\n", adj->dof);
-    printf("  iterations           %d\n", adj->iterations);
-    printf("  vTPv                 %.6g\n", adj->vtpv);
-    if (adj->dof > 0)
-        printf("  variance factor      %.6g (a posteriori, vTPv / dof)\n", adj->sigma0_sq);
+    printf("  degrees of freedom   %d\n", an->dof);
+    printf("  iterations           %d", adj->iterations);
+    if (an->snoop_rounds)
+        printf(" (+ %d after removals)", an->snoop_iterations);
+    printf("\n");
+    printf("  vTPv                 %.6g\n", an->vtpv);
+    if (an->dof > 0)
+        printf("  variance factor      %.6g (a posteriori, vTPv / dof)\n",
+               an->global.sigma0_sq);
     else
         printf("  variance factor      none (no redundancy)\n");
+    if (an->global.tested)
+        printf("  global test          %s: vTPv %.6g %s [%.6g, %.6g] (chi-square, %d dof, "
+               "two-sided at %g)\n", an->global.pass ? "passed" : "FAILED",
+               an->global.statistic, an->global.pass ? "within" : "outside",
+               an->global.lower, an->global.upper, an->dof, an->global_alpha);
+    else
+        printf("  global test          not possible (no redundancy)\n");
+    if (isfinite(an->taucrit))
+        printf("  observation test     Pope's tau, critical value %.4f (alpha %g)\n",
+               an->taucrit, an->alpha);
+    else
+        printf("  observation test     w, critical value %.4f (alpha %g); "
+               "lambda0 %.4g (power %g)\n", an->wcrit, an->alpha, an->lambda0, an->power);
+    printf("  snooping             %s: %d flagged, %zu removed, %d unchecked "
+           "(redundancy below %g)\n",
+           an->snoop == CAIRN_SNOOP_ITERATE ? "iterate" :
+           an->snoop == CAIRN_SNOOP_FLAG ? "flag" : "off",
+           an->nflagged, an->nrejections, an->nunchecked, CAIRN_R_MIN);
+    for (size_t k = 0; k < an->nrejections; k++) {
+        const cairn_rejection *rj = &an->rejections[k];
+        const cairn_obs *o = &p->obs[rj->obs];
+        printf("    removed #%zu %s", rj->obs + 1, cairn_obs_kind_name(o->kind));
+        if (o->src.file)
+            printf(" (%s:%d)", o->src.file, o->src.line);
+        printf(": w %.2f", rj->w);
+        if (isfinite(rj->tau))
+            printf(", tau %.2f", rj->tau);
+        /* ∇ = −v/r with v = fitted − booked: the booked value's error */
+        printf(", estimated error of the booked value ");
+        print_obs_value(net, o, rj->nabla);
+        printf("\n");
+    }
+    if (an->reject_limit_hit)
+        printf("    limit of %zu removals reached: the observations still failing are "
+               "flagged\n", an->max_rejections);
+    for (size_t i = 0; i < an->nobs; i++)
+        if (an->status[i] == CAIRN_OBS_FLAGGED) {
+            const cairn_obs *o = &p->obs[i];
+            printf("    flagged #%zu %s", i + 1, cairn_obs_kind_name(o->kind));
+            if (o->src.file)
+                printf(" (%s:%d)", o->src.file, o->src.line);
+            printf(": w %.2f, residual ", an->w[i]);
+            print_obs_value(net, o, adj->residual[i]);
+            printf("\n");
+        }
+    if (an->has_tolerance) {
+        double lf = cairn_length_factor(net->length_unit);
+        if (an->tolerance_pass < 0)
+            printf("  tolerance            no connected pair to test\n");
+        else
+            printf("  tolerance            %s: %zu of %zu connected pairs within "
+                   "%.4g %s + %g ppm at %g %%\n", an->tolerance_pass ? "passed" : "FAILED",
+                   an->npairs - an->npairs_unavailable - an->tolerance_failed,
+                   an->npairs - an->npairs_unavailable, an->tol_a / lf,
+                   cairn_length_unit_name(net->length_unit), an->tol_ppm,
+                   100 * an->confidence);
+    }
+    if (an->npairs_unavailable)
+        printf("  relative precision   %zu pair%s outside the factor pattern, not computed\n",
+               an->npairs_unavailable, an->npairs_unavailable == 1 ? "" : "s");
     if (!adj->datum_free) {
         printf("  datum                held and weighted control as given\n");
     } else {
@@ -116,13 +228,17 @@ static void summary(const cairn_adjustment *adj, const char *dir)
                     printf(" %s.%s", net->marks[m].id, comp_name(c));
         printf("\n");
     }
-    printf("  results              %s/marks.csv, %s/observations.csv\n", dir, dir);
+    files_line(dir, formats);
 }
 
 int cairn_cli_adjust(int argc, char **argv)
 {
     const char *project = NULL, *outdir = NULL;
     int datum_free = 0, quiet = 0;
+    unsigned formats = CAIRN_FORMAT_TXT | CAIRN_FORMAT_HTML | CAIRN_FORMAT_CSV |
+                       CAIRN_FORMAT_XML;
+    cairn_analysis_options aopt;
+    cairn_analysis_options_default(&aopt);
     for (int i = 1; i < argc; i++) {
         const char *a = argv[i];
         if (!strcmp(a, "-h") || !strcmp(a, "--help")) {
@@ -140,11 +256,15 @@ int cairn_cli_adjust(int argc, char **argv)
                 else if (!strcmp(v, "held")) datum_free = 0;
                 else return usage_error("--datum is held or free, not", v);
             } else if (!strcmp(a, "--snoop")) {
-                if (strcmp(v, "flag") && strcmp(v, "iterate") && strcmp(v, "off"))
-                    return usage_error("--snoop is flag, iterate or off, not", v);
-            } else if (!valid_formats(v)) {
+                if (!strcmp(v, "iterate")) aopt.snoop = CAIRN_SNOOP_ITERATE;
+                else if (!strcmp(v, "flag")) aopt.snoop = CAIRN_SNOOP_FLAG;
+                else if (!strcmp(v, "off")) aopt.snoop = CAIRN_SNOOP_OFF;
+                else return usage_error("--snoop is flag, iterate or off, not", v);
+            } else if (!(formats = parse_formats(v))) {
                 return usage_error("--format takes txt,html,csv,xml, not", v);
             }
+        } else if (!strcmp(a, "--scale-by-aposteriori")) {
+            aopt.scale_aposteriori = 1;
         } else if (!strcmp(a, "--quiet") || !strcmp(a, "-q")) {
             quiet = 1;
         } else if (a[0] == '-' && a[1]) {
@@ -166,6 +286,7 @@ int cairn_cli_adjust(int argc, char **argv)
     cairn_net *net = NULL;
     cairn_problem *prob = NULL;
     cairn_adjustment *adj = NULL;
+    cairn_analysis *an = NULL;
     char *dir = NULL;
     int status = CAIRN_EXIT_OK;
     if (cairn_load_project(project, &net, &err) || !net) {
@@ -204,21 +325,30 @@ int cairn_cli_adjust(int argc, char **argv)
         status = CAIRN_EXIT_ADJUST;
         goto out;
     }
+    rc = cairn_analyse(adj, &aopt, &an, &err);
+    if (rc) {
+        cairn_cli_print_diags(&err);
+        status = CAIRN_EXIT_ADJUST;
+        goto out;
+    }
+    cairn_adjustment_release_cholmod(adj);
     dir = outdir ? cairn_strdup(outdir) : default_dir(project);
     if (!dir) {
         fprintf(stderr, "cairn: out of memory\n");
         status = CAIRN_EXIT_ADJUST;
         goto out;
     }
-    if (cairn_write_csv_results(dir, adj, NULL, NULL, &err)) {
+    if (cairn_write_results(dir, adj, an, formats, &err)) {
         cairn_cli_print_diags(&err);
         status = CAIRN_EXIT_INPUT;
         goto out;
     }
     if (!quiet)
-        summary(adj, dir);
+        summary(adj, an, dir, formats);
+    status = cairn_analysis_alarm(an) ? CAIRN_EXIT_FLAGGED : CAIRN_EXIT_OK;
 out:
     free(dir);
+    cairn_analysis_free(&an);
     cairn_adjustment_free(&adj);
     cairn_problem_free(&prob);
     cairn_net_free(&net);

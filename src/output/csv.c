@@ -13,8 +13,8 @@
 #define LEN_DEC 7
 #define DEG_DEC 10
 #define SEC_DEC 7
-#define RATIO_DEC 6
-#define W_DEC 4
+#define RATIO_DEC 8
+#define W_DEC 7
 
 /* Fixed-decimal number, empty for NAN, and never "-0.000000". */
 static const char *num(char *buf, size_t n, double x, int dec)
@@ -187,6 +187,58 @@ int cairn_write_csv_results(const char *dir, const cairn_adjustment *adj,
         else
             rc = cairn_outset_commit(set, err);
     }
+    cairn_outset_free(&set);
+    return rc;
+}
+
+void cairn_analysis_quality(const cairn_analysis *an, cairn_mark_quality *pmq,
+                            cairn_obs_quality *poq)
+{
+    if (pmq) {
+        pmq->sd_e = an->sd_e;
+        pmq->sd_n = an->sd_n;
+        pmq->sd_h = an->sd_h;
+        pmq->major = an->major;
+        pmq->minor = an->minor;
+        pmq->major_azimuth = an->azimuth;
+    }
+    if (poq) {
+        poq->redundancy = an->r;
+        poq->w = an->w;
+        poq->mdb = an->mdb;
+        poq->status = an->status;
+    }
+}
+
+int cairn_write_results(const char *dir, const cairn_adjustment *adj,
+                        const cairn_analysis *an, unsigned formats,
+                        cairn_error *err)
+{
+    cairn_mark_quality mq;
+    cairn_obs_quality oq;
+    cairn_analysis_quality(an, &mq, &oq);
+    cairn_outset *set = cairn_outset_new(dir, err);
+    if (!set)
+        return -1;
+    int rc = 0;
+    if (formats & CAIRN_FORMAT_CSV) {
+        FILE *fm = cairn_outset_open(set, "marks.csv", err);
+        FILE *fo = fm ? cairn_outset_open(set, "observations.csv", err) : NULL;
+        if (!fm || !fo)
+            rc = -1;
+        else if (cairn_write_marks_csv(fm, adj, &mq) ||
+                 cairn_write_observations_csv(fo, adj, &oq))
+            rc = cairn_error_add(err, CAIRN_SEV_ERROR, dir, 0, 0, "cannot write the results");
+    }
+    if (rc == 0 && (formats & CAIRN_FORMAT_XML)) {
+        FILE *fx = cairn_outset_open(set, "results.xml", err);
+        if (!fx)
+            rc = -1;
+        else if (cairn_write_results_xml(fx, adj, an))
+            rc = cairn_error_add(err, CAIRN_SEV_ERROR, dir, 0, 0, "cannot write results.xml");
+    }
+    if (rc == 0)
+        rc = cairn_outset_commit(set, err);
     cairn_outset_free(&set);
     return rc;
 }

@@ -1,18 +1,29 @@
 #!/usr/bin/env python3
 """Compare cairn's result files with the numpy reference solver's.
 
-usage: compare.py CAIRN_DIR REF_DIR [--strict-quality] [--invariant-only]
+usage: compare.py CAIRN_DIR REF_DIR [--invariant-only] [--strict-quality]
 
 Tolerances (issue #3 / #5 acceptance): coordinates 1e-6 in the length unit;
 residuals 1e-6 of their unit (length unit, or arc-seconds); standard
 deviations and ellipse axes 1e-6 relative (or 1e-9 absolute); redundancy
-numbers and w 1e-6. A quality column that cairn leaves empty is reported
-but only fails with --strict-quality. --invariant-only compares only what
-does not depend on the datum (residuals, sd, redundancy, w, mdb, status),
-for free networks whose minimal constraints sit on different starts.
+numbers and w 1e-6. A quality cell that the reference fills and cairn
+leaves empty (or the other way round) is a failure (--strict-quality is
+accepted for old callers and changes nothing). --invariant-only compares
+only what does not depend on the datum (residuals, sd, redundancy, w, mdb,
+status, the summary), for free networks whose minimal constraints sit on
+different starts: no mark rows, no pairs.
+
+When REF_DIR has summary.txt and CAIRN_DIR has results.xml, the summary
+is compared too: dof, vTPv (the global-test statistic), sigma0 squared,
+the chi-square bounds, the global-test outcome, the numbers flagged and
+rejected, which observations snooping rejected (in order), and the
+tolerance outcome; and with pairs.csv, every observed pair's relative
+ellipse axes (1e-6 relative) and tolerance verdict.
 """
 import csv
+import os
 import sys
+import xml.etree.ElementTree as ET
 
 
 def rows(path, key):
@@ -27,21 +38,13 @@ def num(s):
 
 def main():
     cdir, rdir = sys.argv[1], sys.argv[2]
-    strict = "--strict-quality" in sys.argv
     invariant = "--invariant-only" in sys.argv
     fails = []
-    missing_quality = set()
 
     def close(kind, name, a, b, tol, rel=False):
         if a is None and b is None:
             return
         if a is None or b is None:
-            if rel or kind in ("redundancy", "w", "mdb", "sd_e", "sd_n", "sd_h",
-                               "major", "minor", "major_azimuth"):
-                if a is None:
-                    missing_quality.add(kind)
-                    if not strict:
-                        return
             fails.append(f"{name} {kind}: cairn={a} reference={b}")
             return
         lim = tol * max(1.0, abs(b)) if rel else tol
@@ -63,13 +66,13 @@ def main():
         for k in ("sd_e", "sd_n", "sd_h", "major", "minor"):
             close(k, mid, num(c[k]), num(r[k]), 1e-6, rel=True)
         a, b = num(c["major_azimuth"]), num(r["major_azimuth"])
-        if a is not None and b is not None and num(r["major"]) and num(r["minor"]) is not None \
+        if (a is None) != (b is None):
+            fails.append(f"{mid} major_azimuth: cairn={a} reference={b}")
+        elif a is not None and num(r["major"]) and num(r["minor"]) is not None \
                 and num(r["major"]) - num(r["minor"]) > 1e-6 * num(r["major"]):
             d = (a - b + 90.0) % 180.0 - 90.0
             if abs(d) > 1e-4:
                 fails.append(f"{mid} major_azimuth: cairn={a} reference={b}")
-        elif a is None and b is not None:
-            missing_quality.add("major_azimuth")
 
     co, _ = rows(f"{cdir}/observations.csv", lambda x: x["seq"])
     ro, _ = rows(f"{rdir}/observations.csv", lambda x: x["seq"])
@@ -77,7 +80,7 @@ def main():
         fails.append(f"observation count: cairn={len(co)} reference={len(ro)}")
     for c, r in zip(co, ro):
         name = f"obs {r['seq']} ({r['kind']} {r['source']})"
-        for k in ("kind", "at", "from", "to", "source"):
+        for k in ("kind", "at", "from", "to", "source", "status"):
             if c[k] != r[k]:
                 fails.append(f"{name} {k}: cairn={c[k]!r} reference={r[k]!r}")
         close("observed", name, num(c["observed"]), num(r["observed"]), 1e-7)
@@ -86,15 +89,54 @@ def main():
         close("redundancy", name, num(c["redundancy"]), num(r["redundancy"]), 1e-6)
         close("w", name, num(c["w"]), num(r["w"]), 1e-6)
         close("mdb", name, num(c["mdb"]), num(r["mdb"]), 1e-6, rel=True)
-        if c["status"] and r["status"] and c["status"] != r["status"] and "redundancy" not in missing_quality:
-            fails.append(f"{name} status: cairn={c['status']} reference={r['status']}")
+
+    notes = []
+    if os.path.exists(f"{rdir}/summary.txt") and os.path.exists(f"{cdir}/results.xml"):
+        ref = dict(l.rstrip("\n").split("=", 1) for l in open(f"{rdir}/summary.txt") if "=" in l)
+        root = ET.parse(f"{cdir}/results.xml").getroot()
+        s = root.find("summary").attrib
+        for k, x in (("dof", "dof"), ("flagged", "flagged"), ("rejected", "rejected")):
+            if s.get(x) != ref.get(k):
+                fails.append(f"summary {x}: cairn={s.get(x)} reference={ref.get(k)}")
+        if s.get("global-test") != ref.get("global_test"):
+            fails.append(f"summary global-test: cairn={s.get('global-test')} reference={ref.get('global_test')}")
+        for x, k in (("statistic", "vtpv"), ("sigma0-squared", "sigma0_squared"),
+                     ("lower", "chi2_lower"), ("upper", "chi2_upper"),
+                     ("critical-w", "critical_w"), ("lambda0", "lambda0"),
+                     ("sum-redundancy", "sum_redundancy")):
+            close(x, "summary", num(s.get(x)), num(ref.get(k)), 1e-6, rel=True)
+        crej = " ".join(e.get("seq") for e in root.findall("rejection"))
+        if crej != ref.get("rejected_seq", ""):
+            fails.append(f"rejected observations: cairn=[{crej}] reference=[{ref.get('rejected_seq')}]")
+        if s.get("tolerance") != ref.get("tolerance") and not invariant:
+            fails.append(f"summary tolerance: cairn={s.get('tolerance')} reference={ref.get('tolerance')}")
+        notes.append(f"summary: dof {s.get('dof')}, global test {s.get('global-test')}, "
+                     f"rejected [{crej}], tolerance {s.get('tolerance')}")
+        if os.path.exists(f"{rdir}/pairs.csv") and not invariant:
+            _, rp = rows(f"{rdir}/pairs.csv", lambda x: (x["from"], x["to"]))
+            cp = {(e.get("from"), e.get("to")): e.attrib for e in root.findall("pair")
+                  if e.get("major") is not None}
+            if set(cp) != set(rp):
+                fails.append(f"plane pairs differ: only cairn {sorted(set(cp)-set(rp))[:5]}, "
+                             f"only reference {sorted(set(rp)-set(cp))[:5]}")
+            for key, r in rp.items():
+                c = cp.get(key)
+                if not c:
+                    continue
+                name = f"pair {key[0]}-{key[1]}"
+                close("distance", name, num(c.get("distance")), num(r["distance"]), 1e-6)
+                close("major", name, num(c.get("major")), num(r["major"]), 1e-6, rel=True)
+                close("minor", name, num(c.get("minor")), num(r["minor"]), 1e-6, rel=True)
+                close("allowed", name, num(c.get("allowed")), num(r["allowed"]), 1e-6, rel=True)
+                if (c.get("pass") or "") != r["pass"]:
+                    fails.append(f"{name} pass: cairn={c.get('pass')} reference={r['pass']}")
 
     for f in fails[:30]:
         print("  MISMATCH", f)
     if len(fails) > 30:
         print(f"  ... {len(fails) - 30} more")
-    if missing_quality:
-        print("  note: cairn leaves empty:", ", ".join(sorted(missing_quality)))
+    for n in notes:
+        print("  note:", n)
     return 1 if fails else 0
 
 

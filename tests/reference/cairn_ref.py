@@ -8,12 +8,16 @@ matrices, plain Gauss-Newton, Qxx = N^-1.  It is the oracle the integration
 tests compare the C program with.
 
 Usage:
-    cairn_ref.py FIELDBOOK OUTDIR [--datum held|free]
+    cairn_ref.py FIELDBOOK OUTDIR [--datum held|free] [--snoop iterate|flag|off]
     cairn_ref.py --selftest
 
-Writes OUTDIR/marks.csv, OUTDIR/observations.csv, OUTDIR/summary.txt.
-Exit status: 0 adjusted and global test passed and nothing flagged,
-1 adjusted but global test failed or something flagged, 2 input error,
+Writes OUTDIR/marks.csv, OUTDIR/observations.csv, OUTDIR/summary.txt,
+OUTDIR/pairs.csv (relative ellipses of observed pairs, tolerance).
+Snooping (default iterate) removes the worst failing observation and
+re-adjusts from the starting values, as many times as needed.
+Exit status: 0 adjusted and global test passed and nothing flagged or
+rejected, 1 adjusted but global test failed or something flagged or
+rejected, 2 input error,
 3 adjustment impossible (singular normal matrix, no convergence).
 See README.md beside this file for the formulas and conventions.
 """
@@ -325,7 +329,9 @@ def read_fieldbook(path):
                 elif k in ("refraction", "scale", "confidence", "alpha",
                            "power", "global-alpha"):
                     net.opts[k] = parse_float(v, where)
-                # tolerance, loop-allowance: not used by the reference
+                elif k == "tolerance":
+                    net.opts[k] = parse_sum(v, where)
+                # loop-allowance: not used by the reference
         elif rec == "instrument":
             if len(w) < 2:
                 raise InputError("%s: instrument needs an id" % where)
@@ -902,7 +908,10 @@ def linearise(model, p):
     return A, mis, sig
 
 
-def adjust(model):
+def adjust(model, out=frozenset()):
+    """Gauss-Newton from the starting values; observations in `out`
+    (indices) are left out (weight 0): snooping re-adjusts from scratch."""
+    mask = np.array([0.0 if i in out else 1.0 for i in range(len(model.obs))])
     p = model.start_vector()
     if not model.unk:
         raise AdjustError("nothing to adjust")
@@ -913,7 +922,7 @@ def adjust(model):
     while it < cap:
         it += 1
         A, mis, sig = linearise(model, p)
-        P = 1.0 / sig ** 2
+        P = mask / sig ** 2
         N = A.T @ (A * P[:, None])
         b = -A.T @ (P * mis)
         if np.linalg.cond(N) > 1e14:
@@ -933,20 +942,24 @@ def adjust(model):
     if not converged:
         raise AdjustError("no convergence after %d iterations" % it)
     A, v, sig = linearise(model, p)      # final point: residual v = computed - observed
-    P = 1.0 / sig ** 2
+    P = mask / sig ** 2
     N = A.T @ (A * P[:, None])
     Q = np.linalg.inv(N)
     return p, A, v, sig, Q, it
 
 
-def quality(model, p, A, v, sig, Q):
+def quality(model, p, A, v, sig, Q, out=frozenset(), snoop="iterate"):
+    """Tests of the adjustment without the observations in `out`. With
+    snoop 'off' nothing is flagged (FORMAT.md / DEVELOPERS.md)."""
     opts = model.net.opts
     nobs, nunk = A.shape
-    dof = nobs - nunk
-    P = 1.0 / sig ** 2
+    used = np.array([i not in out for i in range(nobs)])
+    dof = int(used.sum()) - nunk
+    P = np.where(used, 1.0 / sig ** 2, 0.0)
     red = 1.0 - P * np.einsum("ij,jk,ik->i", A, Q, A)
-    if abs(red.sum() - dof) > 1e-6 * max(1, nobs):
-        raise AdjustError("sum of redundancy numbers %.9g != dof %d" % (red.sum(), dof))
+    red[~used] = np.nan
+    if abs(np.nansum(red) - dof) > 1e-6 * max(1, nobs):
+        raise AdjustError("sum of redundancy numbers %.9g != dof %d" % (np.nansum(red), dof))
     vtpv = float(np.sum(P * v * v))
     nd = statistics.NormalDist()
     zcrit = nd.inv_cdf(1.0 - opts["alpha"] / 2.0)
@@ -955,12 +968,15 @@ def quality(model, p, A, v, sig, Q):
     mdb = np.full(nobs, np.nan)
     status = []
     for i in range(nobs):
+        if i in out:
+            status.append("rejected")
+            continue
         if red[i] < 0.01:
             status.append("unchecked")
             continue
         w[i] = v[i] / (sig[i] * math.sqrt(red[i]))
         mdb[i] = sig[i] * math.sqrt(lam / red[i])
-        status.append("flagged" if abs(w[i]) > zcrit else "ok")
+        status.append("flagged" if abs(w[i]) > zcrit and snoop != "off" else "ok")
     ga = opts["global-alpha"]
     if dof > 0:
         lo, hi = chi2_ppf(ga / 2.0, dof), chi2_ppf(1.0 - ga / 2.0, dof)
@@ -969,7 +985,72 @@ def quality(model, p, A, v, sig, Q):
         lo = hi = None
         gt = "none"
     return dict(dof=dof, red=red, vtpv=vtpv, w=w, mdb=mdb, status=status,
-                zcrit=zcrit, lam=lam, lo=lo, hi=hi, gt=gt)
+                zcrit=zcrit, lam=lam, lo=lo, hi=hi, gt=gt, rejected=[])
+
+
+def snoop_iterate(model, fit, qa):
+    """Baarda's iterative data snooping (DESIGN.md "Snooping"): remove the
+    observation with the largest |w| above the critical value (the first
+    in order on a tie), re-adjust from the starting values, repeat until
+    none is left or floor(10 % of the observations) are removed."""
+    out, recs = [], []
+    limit = int(math.floor(0.10 * len(model.obs) + 1e-9))
+    while True:
+        cand = [i for i, st in enumerate(qa["status"]) if st == "flagged"]
+        if not cand or len(out) >= limit:
+            break
+        worst = max(cand, key=lambda i: (abs(qa["w"][i]), -i))
+        # (index, w, nabla = -v/r) at the time of rejection
+        recs.append((worst, float(qa["w"][worst]), float(-fit[2][worst] / qa["red"][worst])))
+        out.append(worst)
+        fit = adjust(model, frozenset(out))
+        p, A, v, sig, Q, it = fit
+        qa = quality(model, p, A, v, sig, Q, frozenset(out))
+    qa["rejected"] = recs
+    return fit, qa
+
+
+def pairs_and_tolerance(model, p, Q, kconf):
+    """Relative ellipses of every pair of marks joined by an observation
+    (station with each target; from with to), from Qii + Qjj - 2Qij, and
+    the tolerance a + b ppm of the plane distance (FORMAT.md `tolerance`)."""
+    col = {idx: j for j, idx in enumerate(model.unk)}
+    pairs = {}
+    order = {m: k for k, m in enumerate(model.net.mark_order)}
+    for o in model.obs:
+        ms = [(o.at, o.frm), (o.at, o.to)] if o.at else [(o.frm, o.to)]
+        for a, b in ms:
+            if not a or not b or a == b:
+                continue
+            a, b = sorted((a, b), key=lambda m: order[m])
+            if a in model.plane and b in model.plane:
+                pairs.setdefault((a, b), None)
+    tol = model.net.opts.get("tolerance")
+    rows = []
+    allpass = None
+    for (a, b) in sorted(pairs, key=lambda ab: (order[ab[0]], order[ab[1]])):
+        g = np.zeros((2, len(model.unk)))
+        for k, (fa, fb) in enumerate(((model.pe(a), model.pe(b)), (model.pn(a), model.pn(b)))):
+            if fb in col:
+                g[k, col[fb]] += 1.0
+            if fa in col:
+                g[k, col[fa]] -= 1.0
+        C = g @ Q @ g.T
+        qee, qen, qnn = C[0, 0], C[0, 1], C[1, 1]
+        tr = 0.5 * (qee + qnn)
+        rt = math.sqrt(max(0.0, 0.25 * (qee - qnn) ** 2 + qen * qen))
+        major = kconf * math.sqrt(tr + rt)
+        minor = kconf * math.sqrt(max(0.0, tr - rt))
+        de = p[model.pe(b)] - p[model.pe(a)]
+        dn = p[model.pn(b)] - p[model.pn(a)]
+        dist = math.hypot(de, dn)
+        allowed = ok = None
+        if tol is not None:
+            allowed = tol.get("len", 0.0) + tol.get("ppm", 0.0) * 1e-6 * dist
+            ok = major <= allowed
+            allpass = ok if allpass is None else (allpass and ok)
+        rows.append((a, b, dist, major, minor, allowed, ok))
+    return rows, ("none" if allpass is None else "pass" if allpass else "fail")
 
 
 # ----------------------------------------------------------------------------
@@ -1051,6 +1132,13 @@ def write_outputs(model, p, v, sig, Q, it, qa, outdir):
     _write(os.path.join(outdir, "observations.csv"), rows)
 
     s = qa
+    prs, tolres = pairs_and_tolerance(model, p, Q, kconf)
+    prow = ["from,to,distance,major,minor,allowed,pass"]
+    for a, b, dist, major, minor, allowed, ok in prs:
+        prow.append(",".join([a, b, num(dist / lf), num(major / lf), num(minor / lf),
+                              num(None if allowed is None else allowed / lf),
+                              "" if ok is None else ("yes" if ok else "no")]))
+    _write(os.path.join(outdir, "pairs.csv"), prow)
     lines = ["observations=%d" % len(model.obs), "unknowns=%d" % len(model.unk),
              "dof=%d" % s["dof"], "iterations=%d" % it, "vtpv=%s" % num(s["vtpv"]),
              "sigma0_squared=%s" % (num(s["vtpv"] / s["dof"]) if s["dof"] > 0 else ""),
@@ -1060,7 +1148,12 @@ def write_outputs(model, p, v, sig, Q, it, qa, outdir):
              "flagged=%d" % s["status"].count("flagged"),
              "unchecked=%d" % s["status"].count("unchecked"),
              "critical_w=%s" % num(s["zcrit"]), "lambda0=%s" % num(s["lam"]),
-             "sum_redundancy=%s" % num(float(np.sum(s["red"])))]
+             "sum_redundancy=%s" % num(float(np.nansum(s["red"]))),
+             "statistic=%s" % num(s["vtpv"]),
+             "rejected=%d" % len(s["rejected"]),
+             "rejected_seq=%s" % " ".join(str(i + 1) for i, _, _ in s["rejected"]),
+             "rejected_w=%s" % " ".join(num(w) for _, w, _ in s["rejected"]),
+             "tolerance=%s" % tolres]
     _write(os.path.join(outdir, "summary.txt"), lines)
 
 
@@ -1168,6 +1261,14 @@ def main(argv):
         return selftest()
     args = [a for a in argv[1:]]
     datum = "held"
+    snoop = "iterate"
+    if "--snoop" in args:
+        i = args.index("--snoop")
+        if i + 1 >= len(args) or args[i + 1] not in ("iterate", "flag", "off"):
+            print("usage: cairn_ref.py FIELDBOOK OUTDIR [--snoop iterate|flag|off]", file=sys.stderr)
+            return 2
+        snoop = args[i + 1]
+        del args[i:i + 2]
     if "--datum" in args:
         i = args.index("--datum")
         if i + 1 >= len(args) or args[i + 1] not in ("held", "free"):
@@ -1181,8 +1282,11 @@ def main(argv):
     try:
         net = read_fieldbook(args[0])
         model = Model(net, datum)
-        p, A, v, sig, Q, it = adjust(model)
-        qa = quality(model, p, A, v, sig, Q)
+        fit = adjust(model)
+        qa = quality(model, *fit[:5], snoop=snoop)
+        if snoop == "iterate":
+            fit, qa = snoop_iterate(model, fit, qa)
+        p, A, v, sig, Q, it = fit
     except InputError as e:
         print("cairn_ref: error: %s" % e, file=sys.stderr)
         return 2
@@ -1190,7 +1294,8 @@ def main(argv):
         print("cairn_ref: %s: error: %s" % (args[0], e), file=sys.stderr)
         return 3
     write_outputs(model, p, v, sig, Q, it, qa, args[1])
-    return 0 if (qa["gt"] != "fail" and "flagged" not in qa["status"]) else 1
+    return 0 if (qa["gt"] != "fail" and "flagged" not in qa["status"]
+                 and not qa["rejected"]) else 1
 
 
 if __name__ == "__main__":

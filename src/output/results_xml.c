@@ -1,0 +1,327 @@
+/* results.xml (FORMAT.md "Result files"; schema share/cairn-results.xsd).
+ * Written with stdio and explicit escaping: every attribute value passes
+ * through esc(), numbers are printed with the C locale's '.', and a value
+ * that does not exist (NAN) is left out rather than written empty, so that
+ * the schema can type every attribute as a number. Units as the CSV files:
+ * lengths in the project unit, angles in decimal degrees, angular
+ * residuals, σ, MDB and ∇ in arc-seconds. */
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+
+#include "cairn/output.h"
+
+#define LEN_DEC 7    /* as csv.c */
+#define DEG_DEC 10
+#define SEC_DEC 7
+
+/* XML attribute text: & < > " and control characters escaped. */
+static void esc(FILE *f, const char *s)
+{
+    for (; s && *s; s++) {
+        unsigned char c = (unsigned char)*s;
+        switch (c) {
+        case '&': fputs("&amp;", f); break;
+        case '<': fputs("&lt;", f); break;
+        case '>': fputs("&gt;", f); break;
+        case '"': fputs("&quot;", f); break;
+        default:
+            if (c < 0x20)
+                fprintf(f, "&#%u;", c);   /* tab, newline: kept as references */
+            else
+                fputc(c, f);
+        }
+    }
+}
+
+static void attr_s(FILE *f, const char *name, const char *v)
+{
+    fprintf(f, " %s=\"", name);
+    esc(f, v);
+    fputc('"', f);
+}
+
+/* Fixed decimals, never "-0.000"; omitted when not finite. */
+static void attr_f(FILE *f, const char *name, double x, int dec)
+{
+    char b[64];
+    if (!isfinite(x))
+        return;
+    snprintf(b, sizeof b, "%.*f", dec, x);
+    if (b[0] == '-' && strspn(b + 1, "0.") == strlen(b + 1))
+        memmove(b, b + 1, strlen(b));
+    fprintf(f, " %s=\"%s\"", name, b);
+}
+
+/* Significant digits (statistics); omitted when not finite. */
+static void attr_g(FILE *f, const char *name, double x)
+{
+    if (isfinite(x))
+        fprintf(f, " %s=\"%.12g\"", name, x);
+}
+
+/* Azimuth of an axis in [0, 180) degrees, also after rounding to DEG_DEC
+ * decimals (179.99999999999 would print as 180). */
+static double axis_deg(double rad)
+{
+    double d = fmod(rad * 180.0 / CAIRN_PI, 180.0);
+    if (d < 0)
+        d += 180.0;
+    return d >= 180.0 - 0.5e-10 ? 0.0 : d;
+}
+
+static void attr_i(FILE *f, const char *name, long v)
+{
+    fprintf(f, " %s=\"%ld\"", name, v);
+}
+
+static const char *role_name(cairn_role r)
+{
+    switch (r) {
+    case CAIRN_ROLE_HELD: return "held";
+    case CAIRN_ROLE_WEIGHTED: return "weighted";
+    default: return "adjusted";
+    }
+}
+
+static const char *comp_name(unsigned c)
+{
+    return c == CAIRN_E ? "e" : c == CAIRN_N ? "n" : "h";
+}
+
+static void source(char *buf, size_t n, const cairn_src *s)
+{
+    if (s->file && s->line > 0)
+        snprintf(buf, n, "%s:%d", s->file, s->line);
+    else
+        snprintf(buf, n, "%s", s->file ? s->file : "");
+}
+
+static void summary(FILE *f, const cairn_adjustment *adj, const cairn_analysis *an)
+{
+    const cairn_net *net = adj->net;
+    double lf = cairn_length_factor(net->length_unit);
+    fputs("  <summary", f);
+    attr_i(f, "observations", (long)an->nobs);
+    attr_i(f, "unknowns", adj->nunknowns);
+    attr_i(f, "dof", an->dof);
+    attr_i(f, "iterations", adj->iterations);
+    attr_g(f, "sigma0-squared", an->global.sigma0_sq);
+    attr_s(f, "global-test", !an->global.tested ? "none" : an->global.pass ? "pass" : "fail");
+    attr_g(f, "statistic", an->global.statistic);
+    attr_g(f, "lower", an->global.lower);
+    attr_g(f, "upper", an->global.upper);
+    attr_s(f, "datum", adj->datum_free ? "free" : "held");
+    attr_i(f, "flagged", an->nflagged);
+    attr_i(f, "rejected", (long)an->nrejections);
+    attr_i(f, "unchecked", an->nunchecked);
+    attr_i(f, "dimension", adj->dimension);
+    attr_s(f, "length-unit", cairn_length_unit_name(net->length_unit));
+    attr_g(f, "vtpv", an->vtpv);
+    attr_g(f, "sum-redundancy", an->sum_r);
+    attr_g(f, "global-alpha", an->global_alpha);
+    attr_g(f, "alpha", an->alpha);
+    attr_g(f, "power", an->power);
+    attr_g(f, "confidence", an->confidence);
+    attr_g(f, "critical-w", an->wcrit);
+    attr_g(f, "lambda0", an->lambda0);
+    attr_s(f, "test", isfinite(an->taucrit) ? "tau" : "w");
+    attr_g(f, "critical-tau", an->taucrit);
+    attr_s(f, "scale", an->scale_aposteriori ? "aposteriori" : "apriori");
+    attr_g(f, "variance-factor", an->variance_factor);
+    attr_g(f, "ellipse-scale", an->k2);
+    attr_g(f, "interval-scale", an->k1);
+    attr_g(f, "ellipsoid-scale", an->k3);
+    attr_s(f, "snoop", an->snoop == CAIRN_SNOOP_ITERATE ? "iterate"
+                       : an->snoop == CAIRN_SNOOP_FLAG ? "flag" : "off");
+    attr_i(f, "max-rejections", (long)an->max_rejections);
+    attr_s(f, "reject-limit", an->reject_limit_hit ? "reached" : "not-reached");
+    attr_s(f, "tolerance", an->tolerance_pass < 0 ? "none" : an->tolerance_pass ? "pass" : "fail");
+    if (an->has_tolerance) {
+        attr_f(f, "tolerance-constant", an->tol_a / lf, LEN_DEC);
+        attr_g(f, "tolerance-ppm", an->tol_ppm);
+        attr_i(f, "tolerance-failed", (long)an->tolerance_failed);
+    }
+    attr_i(f, "pairs", (long)an->npairs);
+    attr_i(f, "pairs-unavailable", (long)an->npairs_unavailable);
+    attr_g(f, "selinv-seconds", an->selinv_seconds);
+    attr_g(f, "factor-seconds", an->factor_seconds);
+    if (isfinite(an->selinv_seconds) && an->factor_seconds > 0)
+        attr_g(f, "selinv-factor-ratio", an->selinv_seconds / an->factor_seconds);
+    fputs("/>\n", f);
+    if (adj->datum_free)
+        for (size_t m = 0; m < net->nmarks; m++)
+            for (unsigned c = CAIRN_E; c <= CAIRN_H; c <<= 1)
+                if (adj->fixed[m] & c) {
+                    fputs("  <datum-fixed", f);
+                    attr_s(f, "mark", net->marks[m].id);
+                    attr_s(f, "component", comp_name(c));
+                    fputs("/>\n", f);
+                }
+}
+
+/* Observation-unit value: arc-seconds for angles, the length unit else. */
+static double ounit(const cairn_obs *o, double x, double lf)
+{
+    return cairn_obs_kind_angular(o->kind) ? x * CAIRN_RHO_SEC : x / lf;
+}
+
+static void rejections(FILE *f, const cairn_adjustment *adj, const cairn_analysis *an)
+{
+    double lf = cairn_length_factor(adj->net->length_unit);
+    char src[CAIRN_PATH_MAX + 32];
+    for (size_t k = 0; k < an->nrejections; k++) {
+        const cairn_rejection *rj = &an->rejections[k];
+        const cairn_obs *o = &adj->prob->obs[rj->obs];
+        source(src, sizeof src, &o->src);
+        fputs("  <rejection", f);
+        attr_i(f, "round", rj->round);
+        attr_i(f, "seq", (long)rj->obs + 1);
+        attr_s(f, "kind", cairn_obs_kind_name(o->kind));
+        attr_s(f, "source", src);
+        attr_f(f, "w", rj->w, 7);
+        attr_f(f, "tau", rj->tau, 7);
+        attr_f(f, "redundancy", rj->r, 8);
+        attr_f(f, "nabla", ounit(o, rj->nabla, lf), cairn_obs_kind_angular(o->kind) ? SEC_DEC
+                                                                                    : LEN_DEC);
+        fputs("/>\n", f);
+    }
+}
+
+static void marks(FILE *f, const cairn_adjustment *adj, const cairn_analysis *an)
+{
+    const cairn_net *net = adj->net;
+    double lf = cairn_length_factor(net->length_unit), lf2 = lf * lf;
+    static const char *const cname[6] = {"ee", "en", "eh", "nn", "nh", "hh"};
+    for (size_t m = 0; m < net->nmarks; m++) {
+        unsigned t = adj->in_adj[m];
+        if (!t)
+            continue;
+        fputs("  <mark", f);
+        attr_s(f, "id", net->marks[m].id);
+        attr_s(f, "role", role_name(adj->role[m]));
+        if (t & CAIRN_E) {
+            attr_f(f, "e", adj->e[m] / lf, LEN_DEC);
+            attr_f(f, "n", adj->n[m] / lf, LEN_DEC);
+        }
+        if (t & CAIRN_H)
+            attr_f(f, "h", adj->h[m] / lf, LEN_DEC);
+        attr_f(f, "sd-e", an->sd_e[m] / lf, LEN_DEC);
+        attr_f(f, "sd-n", an->sd_n[m] / lf, LEN_DEC);
+        attr_f(f, "sd-h", an->sd_h[m] / lf, LEN_DEC);
+        attr_f(f, "major", an->major[m] / lf, LEN_DEC);
+        attr_f(f, "minor", an->minor[m] / lf, LEN_DEC);
+        attr_f(f, "major-azimuth", isfinite(an->azimuth[m]) ? axis_deg(an->azimuth[m]) : NAN,
+               DEG_DEC);
+        attr_f(f, "h-interval", an->h_interval[m] / lf, LEN_DEC);
+        const double *c = &an->cov[6 * m];
+        int any = 0;
+        for (int k = 0; k < 6; k++)
+            any |= isfinite(c[k]);
+        const double *ax = &an->axes3[3 * m];
+        if (!any && !isfinite(ax[0])) {
+            fputs("/>\n", f);
+            continue;
+        }
+        fputs(">\n", f);
+        if (any) {
+            /* length unit squared */
+            fputs("    <covariance", f);
+            for (int k = 0; k < 6; k++)
+                attr_g(f, cname[k], c[k] / lf2);
+            fputs("/>\n", f);
+        }
+        if (isfinite(ax[0]))
+            for (int k = 0; k < 3; k++) {
+                const double *d = &an->dirs3[9 * m + 3 * (size_t)k];
+                fputs("    <axis", f);
+                attr_i(f, "k", k + 1);
+                attr_f(f, "length", ax[k] / lf, LEN_DEC);
+                attr_f(f, "e", d[0], 9);
+                attr_f(f, "n", d[1], 9);
+                attr_f(f, "h", d[2], 9);
+                fputs("/>\n", f);
+            }
+        fputs("  </mark>\n", f);
+    }
+}
+
+static void observations(FILE *f, const cairn_adjustment *adj, const cairn_analysis *an)
+{
+    const cairn_net *net = adj->net;
+    const cairn_problem *p = adj->prob;
+    double lf = cairn_length_factor(net->length_unit);
+    const double deg = 180.0 / CAIRN_PI;
+    char src[CAIRN_PATH_MAX + 32];
+    for (size_t i = 0; i < p->nobs; i++) {
+        const cairn_obs *o = &p->obs[i];
+        int ang = cairn_obs_kind_angular(o->kind);
+        int dec = ang ? SEC_DEC : LEN_DEC;
+        fputs("  <observation", f);
+        attr_i(f, "seq", (long)i + 1);
+        attr_s(f, "kind", cairn_obs_kind_name(o->kind));
+        attr_s(f, "status", cairn_obs_status_name(an->status[i]));
+        if (o->at >= 0)
+            attr_s(f, "at", net->marks[o->at].id);
+        if (o->from >= 0)
+            attr_s(f, "from", net->marks[o->from].id);
+        if (o->to >= 0)
+            attr_s(f, "to", net->marks[o->to].id);
+        if (ang) {
+            attr_f(f, "observed", o->value * deg, DEG_DEC);
+            attr_f(f, "adjusted", o->value * deg + adj->residual[i] * deg, DEG_DEC);
+        } else {
+            attr_f(f, "observed", o->value / lf, LEN_DEC);
+            attr_f(f, "adjusted", (o->value + adj->residual[i]) / lf, LEN_DEC);
+        }
+        attr_f(f, "residual", ounit(o, adj->residual[i], lf), dec);
+        attr_f(f, "sd", ounit(o, adj->sigma[i], lf), dec);
+        attr_f(f, "redundancy", an->r[i], 8);
+        attr_f(f, "w", an->w[i], 7);
+        attr_f(f, "tau", an->tau[i], 7);
+        attr_f(f, "mdb", ounit(o, an->mdb[i], lf), dec);
+        attr_f(f, "nabla", ounit(o, an->nabla[i], lf), dec);
+        attr_f(f, "external", an->external[i] / lf, LEN_DEC);
+        source(src, sizeof src, &o->src);
+        attr_s(f, "source", src);
+        fputs("/>\n", f);
+    }
+}
+
+static void pairs(FILE *f, const cairn_adjustment *adj, const cairn_analysis *an)
+{
+    const cairn_net *net = adj->net;
+    double lf = cairn_length_factor(net->length_unit);
+    for (size_t k = 0; k < an->npairs; k++) {
+        const cairn_pair *pr = &an->pairs[k];
+        fputs("  <pair", f);
+        attr_s(f, "from", net->marks[pr->from].id);
+        attr_s(f, "to", net->marks[pr->to].id);
+        attr_i(f, "seq", pr->obs + 1);
+        if (!pr->available)
+            attr_s(f, "available", "no");
+        attr_f(f, "distance", pr->distance / lf, LEN_DEC);
+        attr_f(f, "major", pr->ellipse.a / lf, LEN_DEC);
+        attr_f(f, "minor", pr->ellipse.b / lf, LEN_DEC);
+        attr_f(f, "azimuth", isfinite(pr->ellipse.azimuth) ? axis_deg(pr->ellipse.azimuth) : NAN,
+               DEG_DEC);
+        attr_f(f, "sd-dh", pr->sd_dh / lf, LEN_DEC);
+        attr_f(f, "dh-interval", pr->dh_interval / lf, LEN_DEC);
+        attr_f(f, "allowed", pr->allowed / lf, LEN_DEC);
+        if (pr->pass >= 0)
+            attr_s(f, "pass", pr->pass ? "yes" : "no");
+        fputs("/>\n", f);
+    }
+}
+
+int cairn_write_results_xml(FILE *f, const cairn_adjustment *adj, const cairn_analysis *an)
+{
+    fputs("<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n<cairn-results format=\"1\">\n", f);
+    summary(f, adj, an);
+    rejections(f, adj, an);
+    marks(f, adj, an);
+    observations(f, adj, an);
+    pairs(f, adj, an);
+    fputs("</cairn-results>\n", f);
+    return ferror(f) ? -1 : 0;
+}

@@ -1,0 +1,351 @@
+/* cairn_analyse: the quality of an adjustment — selected inverse, global
+ * test, redundancy numbers, w-test (or Pope's τ), MDB, external
+ * reliability, iterative data snooping — then precision per mark
+ * (analysis_mark.c) and per observed pair (pairs.c).
+ *
+ * Sources: Baarda (1968), "A Testing Procedure for Use in Geodetic
+ * Networks" (redundancy numbers, w-test, λ0, MDB; REFERENCES.md §2); Pope
+ * (1976), NOAA Technical Report NOS 65 NGS 1 (τ test); REFERENCES.md §1.1
+ * for the two-sided global test. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "analysis_int.h"
+
+void cairn_analysis_options_default(cairn_analysis_options *opt)
+{
+    memset(opt, 0, sizeof *opt);
+    opt->snoop = CAIRN_SNOOP_ITERATE;
+    opt->scale_aposteriori = 0;
+    opt->max_reject_fraction = 0.10;
+    opt->time_phases = 0;
+}
+
+void cairn_analysis_free(cairn_analysis **pan)
+{
+    if (!pan || !*pan)
+        return;
+    cairn_analysis *an = *pan;
+    free(an->sd_e); free(an->sd_n); free(an->sd_h);
+    free(an->major); free(an->minor); free(an->azimuth);
+    free(an->h_interval); free(an->cov); free(an->axes3); free(an->dirs3);
+    free(an->r); free(an->w); free(an->mdb); free(an->nabla); free(an->tau);
+    free(an->external); free(an->status);
+    free(an->pairs); free(an->rejections);
+    free(an);
+    *pan = NULL;
+}
+
+static double *nans(size_t n)
+{
+    double *a = malloc((n ? n : 1) * sizeof *a);
+    if (a)
+        for (size_t i = 0; i < n; i++)
+            a[i] = NAN;
+    return a;
+}
+
+static int alloc_analysis(cairn_analysis *an, size_t nm, size_t no)
+{
+    an->sd_e = nans(nm); an->sd_n = nans(nm); an->sd_h = nans(nm);
+    an->major = nans(nm); an->minor = nans(nm); an->azimuth = nans(nm);
+    an->h_interval = nans(nm); an->cov = nans(6 * nm); an->axes3 = nans(3 * nm);
+    an->dirs3 = nans(9 * nm);
+    an->r = nans(no); an->w = nans(no); an->mdb = nans(no); an->nabla = nans(no);
+    an->tau = nans(no); an->external = nans(no);
+    an->status = calloc(no ? no : 1, sizeof *an->status);
+    an->rejections = calloc(an->max_rejections ? an->max_rejections : 1,
+                            sizeof *an->rejections);
+    return an->sd_e && an->sd_n && an->sd_h && an->major && an->minor && an->azimuth &&
+                   an->h_interval && an->cov && an->axes3 && an->dirs3 && an->r && an->w &&
+                   an->mdb && an->nabla && an->tau && an->external && an->status &&
+                   an->rejections
+               ? 0 : -1;
+}
+
+/* Levels and confidence factors for the current dof. With the variance
+ * factor estimated (scale_aposteriori) the 2-D, 1-D and 3-D factors come
+ * from F(2, dof), t(dof) and F(3, dof) (REFERENCES.md §3.2); otherwise
+ * from χ²(2), the normal and χ²(3) (§3.1). */
+static void factors(cairn_analysis *an)
+{
+    double c = an->confidence;
+    int dof = an->dof;
+    if (an->scale_aposteriori && dof >= 1) {
+        an->variance_factor = an->vtpv / dof;
+        an->k2 = cairn_ellipse_scale_f(c, dof);
+        an->k1 = cairn_interval_scale_t(c, dof);
+        an->k3 = sqrt(3.0 * cairn_f_quantile(c, 3.0, (double)dof));
+        an->taucrit = dof >= 2 ? cairn_tau_critical(an->alpha, dof) : NAN;
+    } else {
+        an->variance_factor = 1.0;
+        an->k2 = cairn_ellipse_scale(c);
+        an->k1 = cairn_interval_scale(c);
+        an->k3 = sqrt(cairn_chi2_quantile(c, 3.0));
+        an->taucrit = NAN;
+    }
+}
+
+/* Redundancy numbers, w (τ), MDB and statuses of the observations used,
+ * the global test, and the Σr = dof check. Z is NULL when there are no
+ * unknowns (then every r is 1). */
+static int test_observations(cairn_analysis *an, const cairn_qa_engine *eg,
+                             const cairn_selinv *Z, cairn_error *err)
+{
+    const cairn_adjustment *adj = an->adj;
+    size_t used = 0;
+    double sum_r = 0;
+    an->vtpv = adj->vtpv;
+    for (size_t i = 0; i < an->nobs; i++)
+        used += !eg->out[i];
+    an->nused = used;
+    an->dof = (int)used - adj->nunknowns;
+    factors(an);
+    int tau = an->scale_aposteriori && isfinite(an->taucrit);
+    double s0 = tau ? sqrt(an->variance_factor) : NAN;
+    double crit = tau ? an->taucrit : an->wcrit;
+    an->nflagged = an->nunchecked = 0;
+    for (size_t i = 0; i < an->nobs; i++) {
+        an->w[i] = an->mdb[i] = an->nabla[i] = an->tau[i] = an->r[i] = NAN;
+        an->external[i] = NAN;
+        if (eg->out[i]) {
+            an->status[i] = CAIRN_OBS_REJECTED;
+            continue;
+        }
+        double sig = adj->sigma[i], p = 1.0 / (sig * sig);
+        size_t k0 = eg->rp[i];
+        int cnt = (int)(eg->rp[i + 1] - k0);
+        double r = cnt == 0 ? 1.0
+                 : cairn_redundancy(p, eg->rc + k0, eg->ri + k0, cnt, cairn_qa_qxx_get,
+                                    (void *)Z);
+        if (!isfinite(r)) {
+            cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
+                            "internal error: a Qxx entry of observation %zu is outside "
+                            "the selected inverse", i + 1);
+            return CAIRN_ANALYSIS_EINTERNAL;
+        }
+        sum_r += r;
+        cairn_obs_rel rel;
+        if (cairn_reliability_obs(adj->residual[i], sig, r, an->lambda0, an->wcrit, &rel)) {
+            cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
+                            "internal error: reliability of observation %zu", i + 1);
+            return CAIRN_ANALYSIS_EINTERNAL;
+        }
+        an->r[i] = r;
+        an->w[i] = rel.w;
+        an->mdb[i] = rel.mdb;
+        an->nabla[i] = rel.nabla;
+        if (tau)
+            an->tau[i] = rel.w / s0;
+        double stat = tau ? an->tau[i] : rel.w;
+        if (rel.status == CAIRN_OBS_UNCHECKED) {
+            an->status[i] = CAIRN_OBS_UNCHECKED;
+            an->nunchecked++;
+        } else if (an->snoop != CAIRN_SNOOP_OFF && fabs(stat) > crit) {
+            an->status[i] = CAIRN_OBS_FLAGGED;
+            an->nflagged++;
+        } else {
+            an->status[i] = CAIRN_OBS_OK;
+        }
+    }
+    an->sum_r = sum_r;
+    /* Σ rᵢ = n − u (REFERENCES.md §2): a failure means the selected
+     * inverse or the design rows are wrong, never the data. */
+    if (fabs(sum_r - an->dof) > 1e-6 * fmax(1.0, (double)an->dof)) {
+        cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
+                        "internal error: the redundancy numbers sum to %.9g, not to the "
+                        "%d degrees of freedom", sum_r, an->dof);
+        return CAIRN_ANALYSIS_EINTERNAL;
+    }
+    if (cairn_global_test(an->vtpv, an->dof, 1.0, an->global_alpha, &an->global) < 0) {
+        cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
+                        "internal error: the global test could not be made");
+        return CAIRN_ANALYSIS_EINTERNAL;
+    }
+    return 0;
+}
+
+/* External reliability of observation i: the shift Δx = Q aᵢᵀ pᵢ ∇ of a
+ * blunder ∇ = MDB, on the unknowns the observation touches, largest
+ * coordinate component (orientations excluded: an angle is no shift).
+ * The entries Q(k, l) for k, l in one row lie in the pattern of N, hence
+ * of the factor, so this needs no solve. The largest shift anywhere in
+ * the network would need the whole column Q aᵢᵀ, one solve per
+ * observation; we do not make it (DESIGN.md "Performance"). */
+static void external(cairn_analysis *an, const cairn_qa_engine *eg, const cairn_selinv *Z)
+{
+    const cairn_adjustment *adj = an->adj;
+    for (size_t i = 0; i < an->nobs; i++) {
+        if (!isfinite(an->mdb[i]))
+            continue;
+        double p = 1.0 / (adj->sigma[i] * adj->sigma[i]), m = 0;
+        int ok = 1, seen = 0;
+        for (size_t k = eg->rp[i]; k < eg->rp[i + 1] && ok; k++) {
+            int uk = eg->ri[k];
+            if (adj->unknowns[uk].mark < 0)
+                continue;
+            seen = 1;
+            double dx = 0;
+            for (size_t l = eg->rp[i]; l < eg->rp[i + 1]; l++) {
+                double q;
+                if (cairn_selinv_get(Z, uk, eg->ri[l], &q)) {
+                    ok = 0;
+                    break;
+                }
+                dx += q * eg->rc[l] * p;
+            }
+            double s = cairn_external_reliability(&dx, 1, an->mdb[i]);
+            m = s > m ? s : m;
+        }
+        an->external[i] = ok && seen ? m : NAN;   /* NAN: it moves no coordinate */
+    }
+}
+
+/* The observation snooping removes next: the largest |w| (|τ|) among the
+ * flagged ones; the first in problem order on a tie. */
+static long next_rejection(const cairn_analysis *an)
+{
+    long best = -1;
+    double bs = 0;
+    for (size_t i = 0; i < an->nobs; i++) {
+        if (an->status[i] != CAIRN_OBS_FLAGGED)
+            continue;
+        double s = fabs(isfinite(an->tau[i]) ? an->tau[i] : an->w[i]);
+        if (s > bs) {
+            bs = s;
+            best = (long)i;
+        }
+    }
+    return best;
+}
+
+static int selinv(cairn_analysis *an, const cairn_qa_engine *eg, cairn_selinv **pZ,
+                  cairn_error *err)
+{
+    *pZ = NULL;
+    if (eg->n == 0)
+        return 0;
+    const cholmod_factor *L = cairn_qa_engine_factor(eg);
+    double t0 = cairn_qa_now();
+    int rc = cairn_selinv_compute(L, eg->cc, pZ);
+    an->selinv_seconds = cairn_qa_now() - t0;
+    if (rc == CAIRN_SELINV_ENOMEM)
+        return cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
+                               "out of memory computing the selected inverse"),
+               CAIRN_SOLVE_ENOMEM;
+    if (rc)
+        return cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
+                               "internal error: the selected inverse failed (%d)", rc),
+               CAIRN_ANALYSIS_EINTERNAL;
+    return 0;
+}
+
+int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
+                  cairn_analysis **pan, cairn_error *err)
+{
+    cairn_analysis_options defaults;
+    *pan = NULL;
+    if (!opt) {
+        cairn_analysis_options_default(&defaults);
+        opt = &defaults;
+    }
+    if (!adj || (adj->nunknowns > 0 && !cairn_adjustment_factor(adj))) {
+        cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
+                        "internal error: the analysis needs the adjustment's factor");
+        return CAIRN_ANALYSIS_EINTERNAL;
+    }
+    const cairn_options *no = &adj->net->opt;
+    cairn_analysis *an = calloc(1, sizeof *an);
+    if (!an)
+        return cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory"),
+               CAIRN_SOLVE_ENOMEM;
+    an->adj = adj;
+    an->snoop = opt->snoop;
+    an->scale_aposteriori = opt->scale_aposteriori;
+    an->confidence = no->confidence;
+    an->alpha = no->alpha;
+    an->power = no->power;
+    an->global_alpha = no->global_alpha;
+    an->lambda0 = cairn_lambda0(no->alpha, no->power);
+    an->wcrit = cairn_w_critical(no->alpha);
+    an->nobs = adj->nobs;
+    an->has_tolerance = no->has_tolerance;
+    an->tol_a = no->tolerance.length;
+    an->tol_ppm = no->tolerance.ppm;
+    an->selinv_seconds = an->factor_seconds = NAN;
+    double frac = opt->max_reject_fraction >= 0 ? opt->max_reject_fraction : 0.10;
+    an->max_rejections = opt->snoop == CAIRN_SNOOP_ITERATE
+                             ? (size_t)floor(frac * (double)adj->nobs + 1e-9) : 0;
+    cairn_qa_engine eg;
+    cairn_selinv *Z = NULL;
+    int rc;
+    memset(&eg, 0, sizeof eg);
+    if (alloc_analysis(an, adj->net->nmarks, adj->nobs)) {
+        cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory");
+        rc = CAIRN_SOLVE_ENOMEM;
+        goto fail;
+    }
+    if ((rc = cairn_qa_engine_init(&eg, adj, err)))
+        goto fail;
+    for (;;) {
+        if ((rc = selinv(an, &eg, &Z, err)) || (rc = test_observations(an, &eg, Z, err)))
+            goto fail;
+        if (opt->snoop != CAIRN_SNOOP_ITERATE)
+            break;
+        long i = next_rejection(an);
+        if (i < 0)
+            break;
+        if (an->nrejections >= an->max_rejections) {
+            an->reject_limit_hit = 1;
+            break;
+        }
+        cairn_rejection *rj = &an->rejections[an->nrejections++];
+        rj->obs = (size_t)i;
+        rj->round = (int)an->nrejections;
+        rj->w = an->w[i];
+        rj->tau = an->tau[i];
+        rj->r = an->r[i];
+        rj->nabla = an->nabla[i];
+        cairn_selinv_free(&Z);
+        if ((rc = cairn_qa_engine_reject(&eg, (size_t)i, err)))
+            goto fail;
+        an->snoop_rounds++;
+    }
+    an->snoop_iterations = eg.iterations;
+    an->snoop_factorisations = eg.factorisations;
+    for (size_t k = 0; k < an->nrejections; k++)
+        an->nabla[an->rejections[k].obs] = an->rejections[k].nabla;
+    if (Z) {
+        external(an, &eg, Z);
+        cairn_qa_marks(an, Z);
+    }
+    if (cairn_qa_pairs(an, Z)) {
+        cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory");
+        rc = CAIRN_SOLVE_ENOMEM;
+        goto fail;
+    }
+    if (opt->time_phases && eg.n > 0) {
+        /* the bench's yardstick: one numeric factorisation of the same N */
+        if ((rc = cairn_qa_engine_refactor(&eg, err)))
+            goto fail;
+        an->factor_seconds = eg.factor_seconds;
+    } else if (eg.factorisations > 0) {
+        an->factor_seconds = eg.factor_seconds;
+    }
+    cairn_selinv_free(&Z);
+    cairn_qa_engine_clear(&eg);
+    *pan = an;
+    return 0;
+fail:
+    cairn_selinv_free(&Z);
+    cairn_qa_engine_clear(&eg);
+    cairn_analysis_free(&an);
+    return rc;
+}
+
+int cairn_analysis_alarm(const cairn_analysis *an)
+{
+    return (an->global.tested && !an->global.pass) || an->nflagged > 0 ||
+           an->nrejections > 0;
+}

@@ -1,0 +1,61 @@
+/* Private declarations shared by analysis.c, analysis_mark.c, pairs.c and
+ * snoop.c (src/quality/). Not API. */
+#ifndef CAIRN_ANALYSIS_INT_H
+#define CAIRN_ANALYSIS_INT_H
+
+#include "cairn/quality.h"
+#include "cairn/selinv.h"
+
+/* The re-adjustment engine of snooping, and the design rows every part of
+ * the analysis reads. It works only through public interfaces of the
+ * model and solve stages (cairn_obs_linearise, cairn_obs_sigma, the
+ * adjustment's unknown numbering and its factor), in the adjustment's
+ * local origin, like src/solve/iterate.c. */
+typedef struct {
+    cairn_adjustment *adj;
+    cholmod_common *cc;     /* the adjustment's Common */
+    cholmod_factor *L;      /* own factor (copy of the adjustment's symbolic
+                               analysis), NULL until the first refactorisation */
+    int n;                  /* unknowns */
+    size_t nobs;
+    size_t *rp;             /* nobs + 1: row i has entries rp[i] .. rp[i+1]-1 */
+    int *ri;                /* unknown of each entry */
+    double *rc;             /* coefficient of each entry at the current state */
+    double *wt;             /* 1/σ², 0 for a rejected observation */
+    unsigned char *out;     /* 1: rejected */
+    double *e, *nn, *h, *omega;  /* local state (e, n minus the origin) */
+    cairn_state st;
+    int iterations;         /* Gauss–Newton iterations made by the engine */
+    int factorisations;
+    double factor_seconds;  /* last factorisation, s */
+} cairn_qa_engine;
+
+/* Build rows and state from the adjustment at its solution. */
+int cairn_qa_engine_init(cairn_qa_engine *eg, cairn_adjustment *adj, cairn_error *err);
+void cairn_qa_engine_clear(cairn_qa_engine *eg);
+/* The factor to use now: the engine's own after it factorised, else the
+ * adjustment's. */
+const cholmod_factor *cairn_qa_engine_factor(const cairn_qa_engine *eg);
+
+/* Remove observation i and re-adjust from the current solution (first step
+ * by Sherman–Morrison on the current factor, then Gauss–Newton with fresh
+ * factorisations, then a final factorisation at the solution). Writes the
+ * new solution into adj. Returns 0 or a CAIRN_SOLVE_* status. */
+int cairn_qa_engine_reject(cairn_qa_engine *eg, size_t i, cairn_error *err);
+
+/* Refactorise N at the current state (bench timing). */
+int cairn_qa_engine_refactor(cairn_qa_engine *eg, cairn_error *err);
+
+/* Qxx getter for cairn_redundancy over a selected inverse. */
+int cairn_qa_qxx_get(void *ctx, int i, int j, double *pq);
+
+/* Seconds of a monotonic clock. */
+double cairn_qa_now(void);
+
+/* analysis_mark.c: per-mark precision from Z. */
+void cairn_qa_marks(cairn_analysis *an, const cairn_selinv *Z);
+/* pairs.c: relative precision of the observed pairs and the tolerance;
+ * returns 0 or -1 when out of memory. */
+int cairn_qa_pairs(cairn_analysis *an, const cairn_selinv *Z);
+
+#endif
