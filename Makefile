@@ -19,9 +19,9 @@ BUILD    ?= build
 # Debian packages (DESIGN.md "Dependencies").
 DEB_PACKAGES = build-essential pkg-config libsuitesparse-dev libopenblas-dev \
                liblapacke-dev libxml2-dev libgsl-dev check python3-numpy groff-base \
-               valgrind
+               valgrind nettle-dev
 
-PKGS         = openblas lapacke libxml-2.0 gsl
+PKGS         = openblas lapacke libxml-2.0 gsl nettle
 # CHOLMOD has no pkg-config file on Debian 12.
 CHOLMOD_CFLAGS ?= -I/usr/include/suitesparse
 CHOLMOD_LIBS   ?= -lcholmod -lsuitesparseconfig

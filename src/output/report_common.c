@@ -1,0 +1,488 @@
+/* Formatting shared by report.txt and report.html: project units, the
+ * caution and verdict, the "look here first" selection and the lines of
+ * the plan. Both reports say the same things in the same words because
+ * the words come from here. */
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "report_int.h"
+
+const char *const cairn_rpt_caution_text =
+    "These results support, and do not replace, the judgement and sign-off of a "
+    "licensed surveyor. Local regulations and standards govern. An adjustment "
+    "that fails its tests is not fit for use without review.";
+
+double cairn_rpt_lf(const cairn_report *r)
+{
+    return r->length_factor > 0 && isfinite(r->length_factor) ? r->length_factor : 1.0;
+}
+
+const char *cairn_rpt_lu(const cairn_report *r)
+{
+    return r->length_unit && r->length_unit[0] ? r->length_unit : "m";
+}
+
+const char *cairn_rpt_small_unit(const cairn_report *r)
+{
+    return r->angle_unit == CAIRN_ANGLE_GON ? "mgon" : "\"";
+}
+
+double cairn_rpt_small(const cairn_report *r, double rad)
+{
+    if (r->angle_unit == CAIRN_ANGLE_GON)
+        return rad * (200000.0 / CAIRN_PI);
+    return rad * CAIRN_RHO_SEC;
+}
+
+const char *cairn_rpt_num(double x, int dec, int sign, char *buf, size_t n)
+{
+    if (!isfinite(x)) {
+        if (n)
+            buf[0] = 0;
+        return buf;
+    }
+    snprintf(buf, n, sign ? "%+.*f" : "%.*f", dec, x);
+    /* "-0.000" and "+0.000" read as a sign that is not there */
+    if (buf[0] == '-' || buf[0] == '+') {
+        const char *p = buf + 1;
+        while (*p == '0' || *p == '.')
+            p++;
+        if (!*p) {
+            if (sign)
+                buf[0] = ' ';
+            else
+                memmove(buf, buf + 1, strlen(buf));
+        }
+    }
+    return buf;
+}
+
+const char *cairn_rpt_len(const cairn_report *r, double m, int dec, char *buf, size_t n)
+{
+    return cairn_rpt_num(m / cairn_rpt_lf(r), dec, 0, buf, n);
+}
+
+const char *cairn_rpt_angle(const cairn_report *r, double rad, int fine, char *buf, size_t n)
+{
+    if (!isfinite(rad)) {
+        if (n)
+            buf[0] = 0;
+        return buf;
+    }
+    int dec;
+    switch (r->angle_unit) {
+    case CAIRN_ANGLE_GON: dec = fine ? 5 : 2; break;
+    case CAIRN_ANGLE_DEG: dec = fine ? 6 : 2; break;
+    default: dec = fine ? 1 : 0; break;
+    }
+    cairn_format_angle(rad, r->angle_unit, dec, buf, n);
+    return buf;
+}
+
+const char *cairn_rpt_obs_value(const cairn_report *r, const cairn_report_obs *o,
+                                double v, char *buf, size_t n)
+{
+    if (o->angular)
+        return cairn_rpt_angle(r, v, 1, buf, n);
+    return cairn_rpt_len(r, v, 4, buf, n);
+}
+
+const char *cairn_rpt_obs_small(const cairn_report *r, const cairn_report_obs *o,
+                                double v, int sign, char *buf, size_t n)
+{
+    char t[48];
+    if (!isfinite(v)) {
+        if (n)
+            buf[0] = 0;
+        return buf;
+    }
+    if (o->angular) {
+        cairn_rpt_num(cairn_rpt_small(r, v), 2, sign, t, sizeof t);
+        if (r->angle_unit == CAIRN_ANGLE_GON)
+            snprintf(buf, n, "%s mgon", t);
+        else
+            snprintf(buf, n, "%s\"", t);
+    } else {
+        cairn_rpt_num(v / cairn_rpt_lf(r), 4, sign, t, sizeof t);
+        snprintf(buf, n, "%s %s", t, cairn_rpt_lu(r));
+    }
+    return buf;
+}
+
+const char *cairn_rpt_id(const cairn_report *r, int i)
+{
+    if (i < 0 || (size_t)i >= r->nmarks || !r->marks[i].id)
+        return "";
+    return r->marks[i].id;
+}
+
+const char *cairn_rpt_obs_marks(const cairn_report *r, const cairn_report_obs *o,
+                                char *buf, size_t n)
+{
+    const char *at = cairn_rpt_id(r, o->at), *fr = cairn_rpt_id(r, o->from),
+               *to = cairn_rpt_id(r, o->to);
+    if (*at && *fr && *to)
+        snprintf(buf, n, "at %s: %s \u2192 %s", at, fr, to);
+    else if (*at && *to)
+        snprintf(buf, n, "%s \u2192 %s", at, to);
+    else if (*fr && *to)
+        snprintf(buf, n, "%s \u2192 %s", fr, to);
+    else
+        snprintf(buf, n, "%s%s%s", at, fr, to);
+    return buf;
+}
+
+const char *cairn_rpt_source(const cairn_report_obs *o, char *buf, size_t n)
+{
+    if (o->file && o->line > 0)
+        snprintf(buf, n, "%s:%d", o->file, o->line);
+    else
+        snprintf(buf, n, "%s", o->file ? o->file : "");
+    return buf;
+}
+
+const char *cairn_rpt_status_name(cairn_report_status s)
+{
+    switch (s) {
+    case CAIRN_REPORT_OK: return "ok";
+    case CAIRN_REPORT_FLAGGED: return "flagged";
+    case CAIRN_REPORT_REJECTED: return "rejected";
+    case CAIRN_REPORT_UNCHECKED: return "unchecked";
+    }
+    return "?";
+}
+
+const char *cairn_rpt_role_name(cairn_report_role s)
+{
+    switch (s) {
+    case CAIRN_REPORT_ADJUSTED: return "adjusted";
+    case CAIRN_REPORT_HELD: return "held";
+    case CAIRN_REPORT_WEIGHTED: return "weighted";
+    case CAIRN_REPORT_UNDETERMINED: return "UNDETERMINED";
+    }
+    return "?";
+}
+
+static size_t maxz(size_t a, size_t b)
+{
+    return a > b ? a : b;
+}
+
+void cairn_rpt_count(const cairn_report *r, cairn_rpt_counts *c)
+{
+    memset(c, 0, sizeof *c);
+    for (size_t i = 0; i < r->nobs; i++) {
+        switch (r->obs[i].status) {
+        case CAIRN_REPORT_FLAGGED: c->flagged++; break;
+        case CAIRN_REPORT_REJECTED: c->rejected++; break;
+        case CAIRN_REPORT_UNCHECKED: c->unchecked++; break;
+        default: break;
+        }
+    }
+    c->flagged = maxz(c->flagged, r->verdict.nflagged);
+    c->rejected = maxz(c->rejected, r->verdict.nrejected);
+    c->unchecked = maxz(c->unchecked, r->verdict.nunchecked);
+    for (size_t m = 0; m < r->nmarks; m++)
+        c->undetermined += r->marks[m].role == CAIRN_REPORT_UNDETERMINED;
+    for (size_t i = 0; i < r->nfiles; i++)
+        c->dotdot += r->files[i].dotdot || cairn_path_has_dotdot(r->files[i].path);
+    for (size_t i = 0; i < r->npairs; i++) {
+        c->tol_tested += r->pairs[i].pass >= 0;
+        c->tol_failed += r->pairs[i].pass == 0;
+    }
+}
+
+static const char *plural(size_t n, const char *one, const char *many)
+{
+    return n == 1 ? one : many;
+}
+
+int cairn_rpt_warnings(const cairn_report *r, void (*emit)(void *ctx, const char *text),
+                       void *ctx)
+{
+    const cairn_report_verdict *v = &r->verdict;
+    cairn_rpt_counts c;
+    char t[512];
+    int k = 0;
+    cairn_rpt_count(r, &c);
+    if (!v->tested) {
+        emit(ctx, "NO GLOBAL TEST: the network has no redundancy (0 degrees of freedom), "
+                  "so nothing in it was checked. Blunders cannot be detected.");
+        k++;
+    } else if (!v->pass) {
+        snprintf(t, sizeof t, "The GLOBAL TEST FAILED: the statistic %.4g lies outside "
+                 "[%.4g, %.4g]. The observations do not agree with their stated "
+                 "precisions; these results are not fit for use without review.",
+                 v->statistic, v->lower, v->upper);
+        emit(ctx, t);
+        k++;
+    }
+    if (!v->converged) {
+        emit(ctx, "The iteration did NOT CONVERGE: the coordinates are not a least-squares "
+                  "solution.");
+        k++;
+    }
+    if (c.rejected) {
+        snprintf(t, sizeof t, "%zu %s REJECTED by data snooping and %s not used in the "
+                 "final solution. Find the cause in the field records before accepting "
+                 "the result.", c.rejected, plural(c.rejected, "observation was",
+                 "observations were"), plural(c.rejected, "is", "are"));
+        emit(ctx, t);
+        k++;
+    }
+    if (c.flagged) {
+        snprintf(t, sizeof t, "%zu %s the w-test (FLAGGED) and %s still in the solution: "
+                 "each may hold a blunder that distorts the coordinates.", c.flagged,
+                 plural(c.flagged, "observation fails", "observations fail"),
+                 plural(c.flagged, "is", "are"));
+        emit(ctx, t);
+        k++;
+    }
+    if (c.unchecked) {
+        snprintf(t, sizeof t, "%zu %s UNCHECKED (redundancy number below 0.01): a blunder "
+                 "in %s would not show in the residuals.", c.unchecked,
+                 plural(c.unchecked, "observation is", "observations are"),
+                 plural(c.unchecked, "it", "them"));
+        emit(ctx, t);
+        k++;
+    }
+    if (c.undetermined) {
+        snprintf(t, sizeof t, "%zu %s left UNDETERMINED: %s coordinates below are not "
+                 "estimates and must not be used.", c.undetermined,
+                 plural(c.undetermined, "mark was", "marks were"),
+                 plural(c.undetermined, "its", "their"));
+        emit(ctx, t);
+        k++;
+    }
+    if (c.tol_failed) {
+        snprintf(t, sizeof t, "%zu of %zu connected %s the required relative precision "
+                 "(%s).", c.tol_failed, c.tol_tested,
+                 plural(c.tol_tested, "pair fails", "pairs fail"),
+                 r->opt.tolerance ? r->opt.tolerance : "tolerance");
+        emit(ctx, t);
+        k++;
+    }
+    if (c.dotdot) {
+        snprintf(t, sizeof t, "%zu input %s a '..' component: check that the intended "
+                 "files were read (see the run).", c.dotdot,
+                 plural(c.dotdot, "path has", "paths have"));
+        emit(ctx, t);
+        k++;
+    }
+    for (size_t i = 0; i < r->nnotes; i++)
+        if (r->notes[i]) {
+            emit(ctx, r->notes[i]);
+            k++;
+        }
+    return k;
+}
+
+int cairn_rpt_clean(const cairn_report *r)
+{
+    cairn_rpt_counts c;
+    cairn_rpt_count(r, &c);
+    return r->verdict.tested && r->verdict.pass && r->verdict.converged && !c.flagged &&
+           !c.rejected && !c.tol_failed && !c.undetermined;
+}
+
+const char *cairn_rpt_verdict(const cairn_report *r, char *buf, size_t n)
+{
+    cairn_rpt_counts c;
+    const char *tol;
+    cairn_rpt_count(r, &c);
+    /* verdict.tolerance 0 of a zeroed struct must not read as a failure
+     * when no tolerance was set at all */
+    if (c.tol_failed || (r->verdict.tolerance == 0 && (r->opt.tolerance || c.tol_tested)))
+        tol = "FAIL";
+    else if (r->verdict.tolerance == 1 || c.tol_tested)
+        tol = "pass";
+    else
+        tol = "none set";
+    snprintf(buf, n, "global test %s | %zu flagged, %zu rejected, %zu unchecked | "
+             "tolerance %s", !r->verdict.tested ? "NOT MADE" :
+             r->verdict.pass ? "pass" : "FAIL", c.flagged, c.rejected, c.unchecked, tol);
+    return buf;
+}
+
+size_t cairn_rpt_worst(const cairn_report *r, size_t *idx, size_t max)
+{
+    size_t k = 0;
+    for (size_t i = 0; i < r->nobs && max; i++) {
+        double a = fabs(r->obs[i].w);
+        if (!isfinite(a))
+            continue;
+        if (k == max && a <= fabs(r->obs[idx[k - 1]].w))
+            continue;
+        size_t j = k < max ? k++ : k - 1;   /* insertion into a sorted list */
+        while (j > 0 && fabs(r->obs[idx[j - 1]].w) < a) {
+            idx[j] = idx[j - 1];
+            j--;
+        }
+        idx[j] = i;
+    }
+    return k;
+}
+
+static int seg_cmp(const void *pa, const void *pb)
+{
+    const cairn_rpt_segment *a = pa, *b = pb;
+    if (a->a != b->a)
+        return a->a < b->a ? -1 : 1;
+    if (a->b != b->b)
+        return a->b < b->b ? -1 : 1;
+    return 0;
+}
+
+/* severity order for the plan: rejected > flagged > unchecked > ok */
+static int severity(cairn_report_status s)
+{
+    switch (s) {
+    case CAIRN_REPORT_REJECTED: return 3;
+    case CAIRN_REPORT_FLAGGED: return 2;
+    case CAIRN_REPORT_UNCHECKED: return 1;
+    default: return 0;
+    }
+}
+
+static void add_seg(const cairn_report *r, cairn_rpt_segment *s, size_t *pn, int a, int b,
+                    cairn_report_status st)
+{
+    if (a < 0 || b < 0 || a == b || (size_t)a >= r->nmarks || (size_t)b >= r->nmarks)
+        return;
+    cairn_rpt_segment *x = &s[(*pn)++];
+    x->a = a < b ? a : b;
+    x->b = a < b ? b : a;
+    x->count = 1;
+    x->worst = st;
+}
+
+int cairn_rpt_segments(const cairn_report *r, cairn_rpt_segment **pseg, size_t *pn)
+{
+    *pseg = NULL;
+    *pn = 0;
+    if (r->nobs == 0)
+        return 0;
+    if (r->nobs > ((size_t)-1) / (2 * sizeof(cairn_rpt_segment)))
+        return -1;
+    cairn_rpt_segment *s = malloc(2 * r->nobs * sizeof *s);
+    if (!s)
+        return -1;
+    size_t n = 0;
+    for (size_t i = 0; i < r->nobs; i++) {
+        const cairn_report_obs *o = &r->obs[i];
+        if (o->at >= 0 && o->from >= 0 && o->to >= 0) {   /* angle: two legs */
+            add_seg(r, s, &n, o->at, o->from, o->status);
+            add_seg(r, s, &n, o->at, o->to, o->status);
+        } else if (o->at >= 0) {
+            add_seg(r, s, &n, o->at, o->to, o->status);
+        } else {
+            add_seg(r, s, &n, o->from, o->to, o->status);
+        }
+    }
+    qsort(s, n, sizeof *s, seg_cmp);
+    size_t m = 0;
+    for (size_t i = 0; i < n; i++) {
+        if (m > 0 && s[m - 1].a == s[i].a && s[m - 1].b == s[i].b) {
+            s[m - 1].count++;
+            if (severity(s[i].worst) > severity(s[m - 1].worst))
+                s[m - 1].worst = s[i].worst;
+        } else {
+            s[m++] = s[i];
+        }
+    }
+    *pseg = s;
+    *pn = m;
+    return 0;
+}
+
+const char *cairn_rpt_dimension(const cairn_report *r, char *buf, size_t n)
+{
+    switch (r->opt.dimension) {
+    case 1: snprintf(buf, n, "1 (heights only)"); break;
+    case 2: snprintf(buf, n, "2 (plane positions%s)",
+                     r->opt.heights ? ", with a separate height part" : ""); break;
+    case 3: snprintf(buf, n, "3 (positions and heights together)"); break;
+    default: snprintf(buf, n, "not stated"); break;
+    }
+    return buf;
+}
+
+/* A round number 1, 2 or 5 × 10^k not above x (x > 0). */
+static double round_down_125(double x)
+{
+    double p = pow(10.0, floor(log10(x)));
+    double m = x / p;
+    return (m >= 5 ? 5 : m >= 2 ? 2 : 1) * p;
+}
+
+double cairn_report_magnification(const cairn_report *r)
+{
+    if (r->ellipse_magnification > 0 && isfinite(r->ellipse_magnification))
+        return r->ellipse_magnification;
+    double emin = INFINITY, emax = -INFINITY, nmin = INFINITY, nmax = -INFINITY, amax = 0;
+    for (size_t i = 0; i < r->nmarks; i++) {
+        const cairn_report_mark *m = &r->marks[i];
+        if (!isfinite(m->e) || !isfinite(m->n))
+            continue;
+        emin = fmin(emin, m->e);
+        emax = fmax(emax, m->e);
+        nmin = fmin(nmin, m->n);
+        nmax = fmax(nmax, m->n);
+        if (isfinite(m->major) && m->major > amax)
+            amax = m->major;
+    }
+    if (!(amax > 0) || !(emax >= emin))
+        return 1.0;
+    double extent = fmax(emax - emin, nmax - nmin);
+    if (!(extent > 0))
+        extent = 1000 * amax;   /* one mark: any factor shows it */
+    double k = 0.05 * extent / amax;
+    return k >= 1 ? round_down_125(k) : k > 0 ? round_down_125(k) : 1.0;
+}
+
+void cairn_rpt_esc(FILE *f, const char *s)
+{
+    if (!s)
+        return;
+    const unsigned char *p = (const unsigned char *)s;
+    while (*p) {
+        unsigned c = *p;
+        if (c < 0x80) {
+            switch (c) {
+            case '&': fputs("&amp;", f); break;
+            case '<': fputs("&lt;", f); break;
+            case '>': fputs("&gt;", f); break;
+            case '"': fputs("&quot;", f); break;
+            case '\'': fputs("&#39;", f); break;
+            default:
+                fputc(c < 0x20 && c != '\t' && c != '\n' ? '?' : (int)c, f);
+            }
+            p++;
+            continue;
+        }
+        /* a well-formed UTF-8 sequence (no overlongs, no surrogates) passes */
+        int len = c >= 0xC2 && c <= 0xDF ? 2 : c >= 0xE0 && c <= 0xEF ? 3
+                : c >= 0xF0 && c <= 0xF4 ? 4 : 0;
+        int ok = len > 0;
+        for (int i = 1; ok && i < len; i++)
+            ok = (p[i] & 0xC0) == 0x80;
+        if (ok && len == 3) {
+            if ((c == 0xE0 && p[1] < 0xA0) || (c == 0xED && p[1] >= 0xA0))
+                ok = 0;
+            /* U+FFFE and U+FFFF are not XML characters */
+            if (c == 0xEF && p[1] == 0xBF && p[2] >= 0xBE)
+                ok = 0;
+        }
+        if (ok && len == 4 && ((c == 0xF0 && p[1] < 0x90) || (c == 0xF4 && p[1] >= 0x90)))
+            ok = 0;
+        if (ok) {
+            fwrite(p, 1, (size_t)len, f);
+            p += len;
+        } else {
+            fputc('?', f);
+            p++;
+        }
+    }
+}
