@@ -279,8 +279,15 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
                              ? (size_t)floor(frac * (double)adj->nobs + 1e-9) : 0;
     cairn_qa_engine eg;
     cairn_selinv *Z = NULL;
+    size_t *pick = NULL;
     int rc;
     memset(&eg, 0, sizeof eg);
+    if (an->max_rejections &&
+        !(pick = malloc(an->max_rejections * sizeof *pick))) {
+        cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory");
+        rc = CAIRN_SOLVE_ENOMEM;
+        goto fail;
+    }
     if (alloc_analysis(an, adj->net->nmarks, adj->nobs)) {
         cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory");
         rc = CAIRN_SOLVE_ENOMEM;
@@ -293,22 +300,26 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
             goto fail;
         if (opt->snoop != CAIRN_SNOOP_ITERATE)
             break;
-        long i = next_rejection(an);
-        if (i < 0)
-            break;
         if (an->nrejections >= an->max_rejections) {
-            an->reject_limit_hit = 1;
+            an->reject_limit_hit = next_rejection(an) >= 0;
             break;
         }
-        cairn_rejection *rj = &an->rejections[an->nrejections++];
-        rj->obs = (size_t)i;
-        rj->round = (int)an->nrejections;
-        rj->w = an->w[i];
-        rj->tau = an->tau[i];
-        rj->r = an->r[i];
-        rj->nabla = an->nabla[i];
+        size_t k = cairn_qa_next_rejections(an, adj->prob, adj->net->nmarks,
+                                            an->max_rejections - an->nrejections, pick);
+        if (!k)
+            break;
+        for (size_t j = 0; j < k; j++) {
+            size_t i = pick[j];
+            cairn_rejection *rj = &an->rejections[an->nrejections++];
+            rj->obs = i;
+            rj->round = an->snoop_rounds + 1;
+            rj->w = an->w[i];
+            rj->tau = an->tau[i];
+            rj->r = an->r[i];
+            rj->nabla = an->nabla[i];
+        }
         cairn_selinv_free(&Z);
-        if ((rc = cairn_qa_engine_reject(&eg, (size_t)i, err)))
+        if ((rc = cairn_qa_engine_reject_many(&eg, pick, k, err)))
             goto fail;
         an->snoop_rounds++;
     }
@@ -335,9 +346,11 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
     }
     cairn_selinv_free(&Z);
     cairn_qa_engine_clear(&eg);
+    free(pick);
     *pan = an;
     return 0;
 fail:
+    free(pick);
     cairn_selinv_free(&Z);
     cairn_qa_engine_clear(&eg);
     cairn_analysis_free(&an);

@@ -42,6 +42,16 @@ const cholmod_factor *cairn_qa_engine_factor(const cairn_qa_engine *eg);
  * factorisations, then a final factorisation at the solution). Writes the
  * new solution into adj. Returns 0 or a CAIRN_SOLVE_* status. */
 int cairn_qa_engine_reject(cairn_qa_engine *eg, size_t i, cairn_error *err);
+/* Remove k > 1 observations at once and re-adjust by Gauss–Newton with
+ * fresh factorisations. Same contract as cairn_qa_engine_reject. */
+int cairn_qa_engine_reject_many(cairn_qa_engine *eg, const size_t *idx, size_t k,
+                                cairn_error *err);
+
+/* snoop_batch.c: the flagged observations one snooping round rejects (the
+ * largest |w| or |tau|, and further ones far from it); writes at most
+ * `limit` observation indices to pick and returns how many. */
+size_t cairn_qa_next_rejections(const cairn_analysis *an, const cairn_problem *p,
+                                size_t nmarks, size_t limit, size_t *pick);
 
 /* Refactorise N at the current state (bench timing). */
 int cairn_qa_engine_refactor(cairn_qa_engine *eg, cairn_error *err);

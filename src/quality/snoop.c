@@ -392,6 +392,58 @@ static void write_back(cairn_qa_engine *eg, double vtpv)
     adj->sigma0_sq = adj->dof > 0 ? vtpv / adj->dof : NAN;
 }
 
+int cairn_qa_engine_reject_many(cairn_qa_engine *eg, const size_t *idx, size_t k,
+                                cairn_error *err)
+{
+    if (k == 1)
+        return cairn_qa_engine_reject(eg, idx[0], err);
+    cairn_adjustment *adj = eg->adj;
+    double vtpv, minlen, minang, ml = INFINITY, ma = INFINITY;
+    int rc;
+    for (size_t j = 0; j < k; j++) {
+        if (idx[j] >= eg->nobs || eg->out[idx[j]])
+            return internal(err, "rejecting an observation twice");
+        eg->out[idx[j]] = 1;
+        eg->wt[idx[j]] = 0;
+    }
+    double *y = calloc(eg->n > 0 ? (size_t)eg->n : 1, sizeof *y);
+    if (!y)
+        return oom(err);
+    int maxit = adj->net->opt.max_iterations > 0 ? adj->net->opt.max_iterations : 25;
+    for (int it = 0;; it++) {
+        if ((rc = linearise(eg, &vtpv, &minlen, &minang, err)))
+            goto done;
+        if (eg->n == 0)
+            break;
+        double thr_len = CONV_FRACTION * minlen;
+        if (!(thr_len > CONV_LENGTH_FLOOR))
+            thr_len = CONV_LENGTH_FLOOR;
+        double thr_ang = isfinite(minang) ? CONV_FRACTION * minang : INFINITY;
+        if (ml < thr_len && ma < thr_ang)
+            break;
+        if (it >= maxit) {
+            cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
+                            "the re-adjustment after rejecting observations did not "
+                            "converge in %d iterations", maxit);
+            rc = CAIRN_SOLVE_ENOCONV;
+            goto done;
+        }
+        if ((rc = factorise(eg, err)))
+            goto done;
+        rhs(eg, y);
+        if ((rc = solve(eg, eg->L, y, 1, err)))
+            goto done;
+        step(eg, y, &ml, &ma);
+        eg->iterations++;
+    }
+    if (eg->n > 0 && (rc = factorise(eg, err)))
+        goto done;
+    write_back(eg, vtpv);
+done:
+    free(y);
+    return rc;
+}
+
 int cairn_qa_engine_reject(cairn_qa_engine *eg, size_t i, cairn_error *err)
 {
     cairn_adjustment *adj = eg->adj;
