@@ -146,6 +146,23 @@ const cholmod_factor *cairn_adjustment_factor(const cairn_adjustment *adj);
 /** The cholmod_common the factor was made with (cholmod_start, int). */
 cholmod_common *cairn_adjustment_common(cairn_adjustment *adj);
 
+/** Wall-clock seconds spent in the sparse normal equations (make bench). */
+typedef struct {
+    double pattern;     /**< building the pattern of N (once) */
+    double analyse;     /**< cholmod_analyze: ordering + symbolic (once) */
+    double assemble;    /**< filling AᵀPA and AᵀPv, all iterations */
+    double factorise;   /**< cholmod_factorize, all iterations */
+    double solve;       /**< triangular solves, all iterations */
+    int nassemble, nfactorise, nsolve;
+} cairn_solve_timing;
+
+/** Timing of the solve stage of this adjustment. */
+void cairn_adjustment_timing(const cairn_adjustment *adj, cairn_solve_timing *pt);
+
+/** The normal matrix N of the last assembly (lower triangle, CHOLMOD
+ *  sparse, stype -1), or NULL after cairn_adjustment_release_cholmod. */
+const cholmod_sparse *cairn_adjustment_normal(const cairn_adjustment *adj);
+
 /** Free the factor and CHOLMOD's workspace (cholmod_finish) early, e.g.
  *  after the selected inverse. Returns CHOLMOD's count of blocks still
  *  allocated afterwards (0 unless something leaked). Idempotent. */

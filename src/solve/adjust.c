@@ -221,6 +221,18 @@ const cholmod_factor *cairn_adjustment_factor(const cairn_adjustment *adj)
     return adj && adj->solver && adj->solver->started ? adj->solver->L : NULL;
 }
 
+void cairn_adjustment_timing(const cairn_adjustment *adj, cairn_solve_timing *pt)
+{
+    memset(pt, 0, sizeof *pt);
+    if (adj && adj->solver)
+        *pt = adj->solver->t;
+}
+
+const cholmod_sparse *cairn_adjustment_normal(const cairn_adjustment *adj)
+{
+    return adj && adj->solver && adj->solver->started ? adj->solver->N : NULL;
+}
+
 cholmod_common *cairn_adjustment_common(cairn_adjustment *adj)
 {
     return adj && adj->solver && adj->solver->started ? &adj->solver->cc : NULL;

@@ -9,6 +9,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <time.h>
 
 #include "solve_int.h"
 
@@ -18,6 +19,13 @@
  * 1e-12·N(j,j) (a pivot ratio r costs a factor 1/√r in that unknown's σ,
  * so 1e-12 means a σ a million times the local one: unusable anyway). */
 #define CAIRN_PIVOT_RTOL 1e-12
+
+double cairn_solve_now(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
 
 int cairn_solver_start(cairn_solver *s, int n, int ordering, int metis_threshold)
 {
@@ -53,6 +61,7 @@ int cairn_solver_analyse(cairn_solver *s, const cairn_rows *rows, size_t nobs,
                          cairn_error *err)
 {
     int n = s->n;
+    double t0 = cairn_solve_now();
     size_t *cnt = calloc((size_t)n + 1, sizeof *cnt);
     int *mark = malloc(((size_t)n ? (size_t)n : 1) * sizeof *mark);
     int *tmp = NULL;
@@ -122,7 +131,10 @@ int cairn_solver_analyse(cairn_solver *s, const cairn_rows *rows, size_t nobs,
     tmp = NULL;
     cnt = NULL;
     mark = NULL;
+    double t1 = cairn_solve_now();
+    s->t.pattern += t1 - t0;
     s->L = cholmod_analyze(s->N, &s->cc);
+    s->t.analyse += cairn_solve_now() - t1;
     if (!s->L || s->cc.status < 0) {
         if (s->cc.status == CHOLMOD_OUT_OF_MEMORY)
             goto oom;
@@ -160,6 +172,7 @@ void cairn_solver_assemble(cairn_solver *s, const cairn_rows *rows, size_t nobs,
 {
     const int *Np = s->N->p, *Ni = s->N->i;
     double *Nx = s->N->x, *b = s->b->x;
+    double t0 = cairn_solve_now();
     memset(Nx, 0, (size_t)Np[s->n] * sizeof *Nx);
     memset(b, 0, (size_t)s->n * sizeof *b);
     for (size_t i = 0; i < nobs; i++) {
@@ -179,6 +192,8 @@ void cairn_solver_assemble(cairn_solver *s, const cairn_rows *rows, size_t nobs,
     }
     for (int j = 0; j < s->n; j++)
         s->ndiag[j] = Nx[Np[j]];
+    s->t.assemble += cairn_solve_now() - t0;
+    s->t.nassemble++;
 }
 
 static int singular(const cairn_adjustment *adj, int j, double pivot, double njj,
@@ -248,7 +263,10 @@ int cairn_solver_factorise(cairn_solver *s, double mu, const cairn_adjustment *a
     if (mu > 0)
         for (int j = 0; j < s->n; j++)
             Nx[Np[j]] = s->ndiag[j] * (1.0 + mu);
+    double t0 = cairn_solve_now();
     int ok = cholmod_factorize(s->N, s->L, &s->cc);
+    s->t.factorise += cairn_solve_now() - t0;
+    s->t.nfactorise++;
     if (mu > 0)
         for (int j = 0; j < s->n; j++)
             Nx[Np[j]] = s->ndiag[j];
@@ -274,7 +292,10 @@ int cairn_solver_factorise(cairn_solver *s, double mu, const cairn_adjustment *a
 
 int cairn_solver_solve(cairn_solver *s, double *dx, cairn_error *err)
 {
+    double t0 = cairn_solve_now();
     cholmod_dense *X = cholmod_solve(CHOLMOD_A, s->L, s->b, &s->cc);
+    s->t.solve += cairn_solve_now() - t0;
+    s->t.nsolve++;
     if (!X || s->cc.status < 0) {
         cholmod_free_dense(&X, &s->cc);
         cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,

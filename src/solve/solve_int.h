@@ -66,7 +66,11 @@ struct cairn_solver {
     int n;
     cairn_rows rows;       /* design-row pattern (adjust.c) */
     cairn_xstate x;        /* final local state, for re-linearising */
+    cairn_solve_timing t;  /* seconds per phase (make bench) */
 };
+
+/* Seconds of a monotonic clock. */
+double cairn_solve_now(void);
 
 int cairn_solver_start(cairn_solver *s, int n, int ordering, int metis_threshold);
 /* Pattern of N from the rows; symbolic analysis (once). */

@@ -1,30 +1,46 @@
 #!/bin/sh
 # make bench: timings live here, never in a test.
-# Builds the synthetic network generator, then adjusts plane networks of
-# increasing size and prints wall time and peak memory of each run.
-# BENCH_SIZES overrides the sizes (default "1000 10000 20000").
+#
+# 1. The selected inverse against one factorisation of the same matrix
+#    (tests/bench/selinv_bench.c).
+# 2. Whole adjustments of synthetic plane networks (tests/bench/gen.c),
+#    timed phase by phase by tests/bench/phases.c, against a bare CHOLMOD
+#    analyse + factorise of the same normal matrix in the same run; the
+#    table goes to stdout and to tests/bench/results.md.
+# BENCH_SIZES overrides the sizes (default 1000 10000 100000; BENCH_FULL=1
+# adds 1000000). SELINV_SIZES likewise for part 1.
 set -eu
 top=$(cd "$(dirname "$0")/../.." && pwd)
-out=$top/build/bench
+build=${BUILD:-$top/build}
+out=$build/bench
 mkdir -p "$out"
 cc=${CC:-gcc}
+libs="-lcholmod -lsuitesparseconfig $(pkg-config --libs openblas lapacke libxml-2.0 gsl nettle | sed 's/-lgslcblas//') -lm"
+cflags="-std=c11 -D_POSIX_C_SOURCE=200809L -O2 -I$top/include -I/usr/include/suitesparse $(pkg-config --cflags openblas lapacke libxml-2.0)"
 $cc -std=c11 -O2 -Wall -Wextra -o "$out/gen" "$top/tests/bench/gen.c" -lm
-sizes=${BENCH_SIZES:-1000 10000 20000}
-# The selected inverse against one factorisation of the same matrix.
-$cc -std=c11 -O2 -I"$top/include" -I/usr/include/suitesparse \
-    $(pkg-config --cflags openblas lapacke) -o "$out/selinv_bench" \
-    "$top/tests/bench/selinv_bench.c" "$top/build/libcairn.a" -lcholmod -lsuitesparseconfig \
-    $(pkg-config --libs openblas lapacke) -lm
+# shellcheck disable=SC2086
+$cc $cflags -o "$out/selinv_bench" "$top/tests/bench/selinv_bench.c" "$build/libcairn.a" $libs
+# shellcheck disable=SC2086
+$cc $cflags -o "$out/phases" "$top/tests/bench/phases.c" "$build/libcairn.a" $libs
+
+echo "== selected inverse vs one factorisation"
 for n in ${SELINV_SIZES:-10000 100000}; do "$out/selinv_bench" "$n" 3; done
 echo
-printf '%-8s %-10s %-10s %-10s %s\n' marks lines wall_s peak_MB exit
+
+sizes=${BENCH_SIZES:-1000 10000 100000}
+[ "${BENCH_FULL:-0}" = 1 ] && sizes="$sizes 1000000"
+table=$out/results.md
+{
+    echo "Machine: $(nproc) cores, $(awk '/MemTotal/ {printf "%.0f GiB", $2/1048576}' /proc/meminfo), $(uname -m); $(date -u +%Y-%m-%d)"
+    echo "Seconds of wall time per phase; bare = CHOLMOD analyse + factorise of the same N (fresh Common)."
+    echo
+    echo "| marks | unknowns | observations | nnz(L) | load | start | build | pattern | analyse | assemble | factorise (n) | solve | quality+snooping | selinv | write | total | bare (analyse+factor) | total/bare | peak RSS MB | bare MB |"
+    echo "|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|"
+} >"$table"
 for n in $sizes; do
     fb=$out/plane-$n.cfb
     [ -f "$fb" ] || "$out/gen" --kind plane --marks "$n" --seed 7 -o "$fb"
-    lines=$(wc -l <"$fb")
-    rc=0
-    /usr/bin/time -f '%e %M' -o "$out/time-$n" "$top/build/cairn" adjust "$fb" \
-        -o "$out/res-$n" --quiet >"$out/log-$n" 2>&1 || rc=$?
-    set -- $(tail -1 "$out/time-$n")
-    printf '%-8s %-10s %-10s %-10s %s\n' "$n" "$lines" "$1" "$(($2 / 1024))" "$rc"
+    "$out/phases" "$fb" "$out/res-$n" >>"$table"
 done
+cat "$table"
+cp "$table" "$top/tests/bench/results.md"

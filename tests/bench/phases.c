@@ -1,0 +1,119 @@
+/* make bench: one adjustment of a field book, timed phase by phase, and
+ * the yardstick: a bare CHOLMOD analyse + factorise of the same normal
+ * matrix with a fresh cholmod_common, timed in the same run.
+ *
+ * usage: phases FIELDBOOK [OUTDIR]
+ * Prints one Markdown table row:
+ * | marks | unknowns | observations | nnz(L) | load | start | build | pattern |
+ *   analyse | assemble | factorise (n) | solve | quality+snooping | selinv |
+ *   write | total | bare | total/bare | peak RSS MB | bare MB |
+ * Not a test: timings live here only. */
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/resource.h>
+#include <time.h>
+
+#include "cairn/cairn.h"
+#include "cairn/output.h"
+#include "cairn/quality.h"
+#include "cairn/solve.h"
+#include "cairn/start.h"
+
+static double now(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+static void die(const char *what, cairn_error *err)
+{
+    fprintf(stderr, "phases: %s failed\n", what);
+    char line[CAIRN_PATH_MAX + CAIRN_MSG_MAX + 64];
+    for (int i = 0; i < err->ndiag && i < 5; i++) {
+        cairn_diag_format(&err->diag[i], line, sizeof line);
+        fprintf(stderr, "%s\n", line);
+    }
+    exit(1);
+}
+
+int main(int argc, char **argv)
+{
+    if (argc < 2) {
+        fprintf(stderr, "usage: phases FIELDBOOK [OUTDIR]\n");
+        return 2;
+    }
+    const char *outdir = argc > 2 ? argv[2] : "/tmp/cairn-bench-out";
+    cairn_error err;
+    cairn_error_init(&err);
+    cairn_net *net = NULL;
+    cairn_problem *prob = NULL;
+    cairn_adjustment *adj = NULL;
+    cairn_analysis *an = NULL;
+
+    double t0 = now();
+    if (cairn_load_project(argv[1], &net, &err))
+        die("load", &err);
+    double t1 = now();
+    if (cairn_problem_build(net, 0, &prob, &err))
+        die("problem", &err);
+    double t2 = now();
+    if (cairn_start_compute(net, prob->dimension, NULL, &err))
+        die("starting coordinates", &err);
+    double t3 = now();
+    cairn_error_reset(&err);
+    if (cairn_adjust(net, prob, NULL, &adj, &err))
+        die("adjust", &err);
+    double t4 = now();
+    cairn_solve_timing st;
+    cairn_adjustment_timing(adj, &st);
+
+    /* the yardstick, on the normal matrix of the first adjustment, before
+     * snooping changes anything */
+    cholmod_common cc;
+    cholmod_start(&cc);
+    cc.print = 0;
+    cc.nmethods = 1;
+    cc.method[0].ordering = adj->nunknowns > 20000 ? CHOLMOD_METIS : CHOLMOD_AMD;
+    cc.supernodal = CHOLMOD_SUPERNODAL;
+    cholmod_sparse *N = cholmod_copy_sparse((cholmod_sparse *)cairn_adjustment_normal(adj), &cc);
+    double b0 = now();
+    cholmod_factor *L = cholmod_analyze(N, &cc);
+    double b1 = now();
+    cholmod_factorize(N, L, &cc);
+    double b2 = now();
+    double lnz = cc.lnz;
+    double bare_mb = (double)cc.memory_usage / 1048576.0;
+    cholmod_free_factor(&L, &cc);
+    cholmod_free_sparse(&N, &cc);
+    cholmod_finish(&cc);
+
+    cairn_analysis_options ao;
+    cairn_analysis_options_default(&ao);
+    double q0 = now();
+    if (cairn_analyse(adj, &ao, &an, &err))
+        die("analysis", &err);
+    double q1 = now();
+    if (cairn_write_results(outdir, adj, an, CAIRN_FORMAT_CSV | CAIRN_FORMAT_XML, &err))
+        die("write", &err);
+    double q2 = now();
+
+    struct rusage ru;
+    getrusage(RUSAGE_SELF, &ru);
+    double bare = b2 - b0;
+    double total = (t4 - t0) + (q2 - q1) + (q1 - q0);
+    printf("| %zu | %d | %zu | %.3g | %.2f | %.2f | %.2f | %.2f | %.2f | %.2f | %.2f (%d) | "
+           "%.2f | %.2f | %.2f | %.2f | %.2f | %.2f (%.2f+%.2f) | %.1f | %.0f | %.0f |\n",
+           net->nmarks, adj->nunknowns, adj->nobs, lnz, t1 - t0, t3 - t2, t2 - t1,
+           st.pattern, st.analyse, st.assemble, st.factorise, st.nfactorise, st.solve,
+           q1 - q0, an->selinv_seconds, q2 - q1, total, bare, b1 - b0, b2 - b1,
+           total / bare, (double)ru.ru_maxrss / 1024.0, bare_mb);
+    cairn_analysis_free(&an);
+    cairn_adjustment_free(&adj);
+    cairn_problem_free(&prob);
+    cairn_net_free(&net);
+    cairn_error_clear(&err);
+    return 0;
+}
