@@ -15,7 +15,8 @@
 
 #include "cairn/core.h"
 #include "cairn/solve.h"
-#include "cairn/quality.h"   /* cairn_obs_status, cairn_analysis */
+#include "cairn/quality.h"   /* cairn_obs_status, cairn_analysis, cairn_diagnoses */
+#include "cairn/report.h"
 
 /* ------------------------------------------------------------------ */
 /* Atomic writing of a set of files into one directory                 */
@@ -91,6 +92,12 @@ void cairn_analysis_quality(const cairn_analysis *an, cairn_mark_quality *pmq,
 int cairn_write_results_xml(FILE *f, const cairn_adjustment *adj,
                             const cairn_analysis *an);
 
+/** The same, with the diagnosis of each flagged or rejected observation
+ *  (`<diagnosis kind corrected mark note reading fit/>` inside its
+ *  `<observation>`). dg may be NULL: no diagnoses. */
+int cairn_write_results_xml_diag(FILE *f, const cairn_adjustment *adj,
+                                 const cairn_analysis *an, const cairn_diagnoses *dg);
+
 /** Result formats (`--format`). */
 enum {
     CAIRN_FORMAT_TXT = 1, CAIRN_FORMAT_HTML = 2, CAIRN_FORMAT_CSV = 4,
@@ -104,5 +111,62 @@ enum {
 int cairn_write_results(const char *dir, const cairn_adjustment *adj,
                         const cairn_analysis *an, unsigned formats,
                         cairn_error *err);
+
+/* ------------------------------------------------------------------ */
+/* The report (cairn/report.h) from an adjustment: src/output/report_fill.c */
+/* ------------------------------------------------------------------ */
+
+/** What the report says about the run beyond the adjustment itself. */
+typedef struct {
+    int argc;                 /**< the command line after the program name */
+    char *const *argv;        /**< (e.g. "adjust" "p.xml" "-o" "r"); NULL: none */
+    const char *utc;          /**< date and time; NULL: now (cairn_report_utc_now) */
+    const cairn_error *notes; /**< warnings to repeat with the caution; NULL: none */
+} cairn_report_run;
+
+/** A report filled from an adjustment; `report` is what the writers read,
+ *  `store` owns everything it points at. Ownership: cairn_report_build
+ *  fills it, cairn_report_clear releases it. */
+typedef struct {
+    cairn_report report;
+    struct cairn_report_store *store;   /**< private */
+} cairn_report_built;
+
+/** Fill a report from the adjustment (final state), its analysis and the
+ *  diagnoses (dg may be NULL: no "likely cause"): the marks in the
+ *  adjustment in mark order, every observation in problem order, the
+ *  relative precision of the observed pairs, the iteration log, the
+ *  options, the datum and the input files with their sizes and SHA-256
+ *  (read again from disk; a `..` path is marked). run may be NULL.
+ *  The adjustment, analysis, diagnoses and net must outlive the report.
+ *  Returns 0, or -1 when out of memory (out is then empty). */
+int cairn_report_build(const cairn_adjustment *adj, const cairn_analysis *an,
+                       const cairn_diagnoses *dg, const cairn_report_run *run,
+                       cairn_report_built *out, cairn_error *err);
+
+/** Release a built report; it is left empty. NULL is accepted. */
+void cairn_report_clear(cairn_report_built *b);
+
+/** Flags of cairn_write_result_set. */
+enum {
+    CAIRN_WRITE_FORCE = 1   /**< write even when DIR is a symbolic link */
+};
+
+/** Write the result files asked for in `formats` (CAIRN_FORMAT_* bits)
+ *  into dir as one atomic set: report.txt, report.html (from rep, which
+ *  may be NULL only when neither is asked for), marks.csv and
+ *  observations.csv, results.xml (with the diagnoses dg, may be NULL).
+ *  Every file goes to a temporary in dir first; only when all of them
+ *  were written completely are they renamed into place, so the previous
+ *  results are replaced only by a complete new set, and on any failure
+ *  the temporaries are removed and the old files are left as they were.
+ *  dir is created (one level) when missing. A dir that is a symbolic link
+ *  is refused unless flags has CAIRN_WRITE_FORCE (results written through
+ *  a link land somewhere the command line does not show). Returns 0, or
+ *  -1 with a message. */
+int cairn_write_result_set(const char *dir, const cairn_adjustment *adj,
+                           const cairn_analysis *an, const cairn_diagnoses *dg,
+                           const cairn_report *rep, unsigned formats, unsigned flags,
+                           cairn_error *err);
 
 #endif

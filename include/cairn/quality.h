@@ -30,6 +30,7 @@
 #include <stddef.h>
 
 #include "cairn/solve.h"
+#include "cairn/diagnose.h"
 
 #ifdef __cplusplus
 extern "C" {
@@ -422,6 +423,39 @@ int cairn_analysis_alarm(const cairn_analysis *an);
  * Sherman–Morrison formula (one solve, no refactorisation); further steps
  * and the final factor for the selected inverse factorise afresh on the
  * symbolic analysis of the adjustment (snoop.c explains the choice). */
+
+/* ------------------------------------------------------------------ */
+/* 8. Diagnoses of an analysis (src/quality/diagnose_all.c)            */
+/* ------------------------------------------------------------------ */
+
+/** The diagnosis (cairn/diagnose.h) of every flagged or rejected
+ *  observation of an analysis. Ownership: cairn_diagnoses_make fills it,
+ *  cairn_diagnoses_clear releases it; a zeroed struct is empty and may be
+ *  cleared. */
+typedef struct {
+    size_t n;                /**< entries: the problem's observations */
+    cairn_diagnosis *d;      /**< n entries, problem order; kind NONE and an empty
+                                  note where no diagnosis was made */
+    unsigned char *made;     /**< n entries: 1 where the observation was diagnosed
+                                  (status flagged or rejected) */
+    size_t nmade;            /**< how many were diagnosed */
+} cairn_diagnoses;
+
+/** Diagnose every flagged or rejected observation of an (the adjustment it
+ *  analysed, in its final state) with cairn_diagnose. The estimated
+ *  blunders passed for every observation (other readings of a sight are
+ *  evidence): ∇̂ = an->nabla and sd σ/√r for observations in the solution
+ *  (NAN when unchecked); for a rejected one its misfit to the final
+ *  solution, −residual, with sd σ/√r from its rejection record (the sd of
+ *  the predicted residual of an observation left out). The booked text is
+ *  re-read from the input files, which must still be readable at the
+ *  paths they were loaded from. Returns 0, or -1 when out of memory (pdg
+ *  is then empty). */
+int cairn_diagnoses_make(const cairn_adjustment *adj, const cairn_analysis *an,
+                         cairn_diagnoses *pdg, cairn_error *err);
+
+/** Release the storage of a set of diagnoses; it is left empty. */
+void cairn_diagnoses_clear(cairn_diagnoses *dg);
 
 #ifdef __cplusplus
 }

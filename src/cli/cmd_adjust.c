@@ -1,7 +1,8 @@
 /* `cairn adjust PROJECT [-o DIR] [--datum held|free] [--snoop MODE]
- *  [--scale-by-aposteriori] [--format LIST] [--quiet]`: load, build the
- * problem, adjust, analyse (tests, precision, snooping), write the results
- * atomically, print a summary. Exit codes: enum cairn_exit (core.h). */
+ *  [--scale-by-aposteriori] [--format LIST] [--force] [--quiet]`: load,
+ * build the problem, adjust, analyse (tests, precision, snooping), diagnose
+ * the flagged and rejected observations, write the results atomically as
+ * one set, print a summary. Exit codes: enum cairn_exit (core.h). */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -19,7 +20,7 @@ void cairn_cli_adjust_help(FILE *out)
     fprintf(out,
             "usage: cairn adjust PROJECT [-o DIR] [--datum held|free]\n"
             "                    [--snoop flag|iterate|off] [--scale-by-aposteriori]\n"
-            "                    [--format LIST] [--quiet]\n\n"
+            "                    [--format LIST] [--force] [--quiet]\n\n"
             "Adjust the network of PROJECT (an XML project or a field book) by\n"
             "least squares, test it and write the results into DIR.\n\n"
             "  -o DIR          results directory (default: results/ beside PROJECT)\n"
@@ -35,10 +36,11 @@ void cairn_cli_adjust_help(FILE *out)
             "                  scale standard deviations and ellipses by the a\n"
             "                  posteriori variance factor (F and t factors) and test\n"
             "                  observations with Pope's tau instead of w\n"
-            "  --format LIST   comma-separated from txt,html,csv,xml (default: all);\n"
-            "                  csv writes marks.csv and observations.csv, xml writes\n"
-            "                  results.xml; txt and html are accepted but not written\n"
-            "                  yet (the reports come in a later version)\n"
+            "  --format LIST   comma-separated from txt,html,csv,xml (default: all):\n"
+            "                  txt report.txt, html report.html, csv marks.csv and\n"
+            "                  observations.csv, xml results.xml; written as one set,\n"
+            "                  replacing the previous results only when all succeed\n"
+            "  --force         write even when DIR is a symbolic link\n"
             "  --quiet         print nothing but errors\n\n"
             "exit status: 0 adjusted, global test passed, nothing flagged or removed;\n"
             "1 adjusted, but the global test failed or observations were flagged or\n"
@@ -107,14 +109,32 @@ static const char *comp_name(unsigned c)
 
 static void files_line(const char *dir, unsigned formats)
 {
-    printf("  results             ");
+    printf("  results              %s/:", dir);
+    if (formats & CAIRN_FORMAT_TXT)
+        printf(" report.txt");
+    if (formats & CAIRN_FORMAT_HTML)
+        printf(" report.html");
     if (formats & CAIRN_FORMAT_CSV)
-        printf(" %s/marks.csv %s/observations.csv", dir, dir);
+        printf(" marks.csv observations.csv");
     if (formats & CAIRN_FORMAT_XML)
-        printf(" %s/results.xml", dir);
-    if (formats & (CAIRN_FORMAT_TXT | CAIRN_FORMAT_HTML))
-        printf(" (txt and html reports: not written by this version)");
+        printf(" results.xml");
     printf("\n");
+}
+
+/* The diagnosis of observation i under its line in the summary. */
+static void print_cause(const cairn_net *net, const cairn_diagnoses *dg, size_t i)
+{
+    if (!dg || i >= dg->n || !dg->made[i])
+        return;
+    const cairn_diagnosis *d = &dg->d[i];
+    if (d->kind == CAIRN_DIAG_NONE) {
+        printf("      likely cause: none found (%s)\n", d->note);
+        return;
+    }
+    printf("      likely cause: %s", cairn_diag_kind_name(d->kind));
+    if (d->kind == CAIRN_DIAG_WRONG_MARK && d->mark >= 0)
+        printf(" (%s meant)", net->marks[d->mark].id);
+    printf(": %s\n", d->note);
 }
 
 /* A residual-like value in its unit for the screen: arc-seconds for angles,
@@ -129,7 +149,7 @@ static void print_obs_value(const cairn_net *net, const cairn_obs *o, double x)
 }
 
 static void summary(const cairn_adjustment *adj, const cairn_analysis *an,
-                    const char *dir, unsigned formats)
+                    const cairn_diagnoses *dg, const char *dir, unsigned formats)
 {
     const cairn_net *net = adj->net;
     const cairn_problem *p = adj->prob;
@@ -189,6 +209,7 @@ static void summary(const cairn_adjustment *adj, const cairn_analysis *an,
         printf(", estimated error of the booked value ");
         print_obs_value(net, o, rj->nabla);
         printf("\n");
+        print_cause(net, dg, rj->obs);
     }
     if (an->reject_limit_hit)
         printf("    limit of %zu removals reached: the observations still failing are "
@@ -202,6 +223,7 @@ static void summary(const cairn_adjustment *adj, const cairn_analysis *an,
             printf(": w %.2f, residual ", an->w[i]);
             print_obs_value(net, o, adj->residual[i]);
             printf("\n");
+            print_cause(net, dg, i);
         }
     if (an->has_tolerance) {
         double lf = cairn_length_factor(net->length_unit);
@@ -234,7 +256,7 @@ static void summary(const cairn_adjustment *adj, const cairn_analysis *an,
 int cairn_cli_adjust(int argc, char **argv)
 {
     const char *project = NULL, *outdir = NULL;
-    int datum_free = 0, quiet = 0;
+    int datum_free = 0, quiet = 0, force = 0;
     unsigned formats = CAIRN_FORMAT_TXT | CAIRN_FORMAT_HTML | CAIRN_FORMAT_CSV |
                        CAIRN_FORMAT_XML;
     cairn_analysis_options aopt;
@@ -265,6 +287,8 @@ int cairn_cli_adjust(int argc, char **argv)
             }
         } else if (!strcmp(a, "--scale-by-aposteriori")) {
             aopt.scale_aposteriori = 1;
+        } else if (!strcmp(a, "--force")) {
+            force = 1;
         } else if (!strcmp(a, "--quiet") || !strcmp(a, "-q")) {
             quiet = 1;
         } else if (a[0] == '-' && a[1]) {
@@ -278,11 +302,14 @@ int cairn_cli_adjust(int argc, char **argv)
     if (!project)
         return usage_error("no project file given", NULL);
 
-    cairn_error err;
-    if (cairn_error_init(&err)) {
+    cairn_error err, warnings;
+    if (cairn_error_init(&warnings) || cairn_error_init(&err)) {
+        cairn_error_clear(&warnings);
         fprintf(stderr, "cairn: out of memory\n");
         return CAIRN_EXIT_ADJUST;
     }
+    cairn_diagnoses dg = {0};
+    cairn_report_built rep = {0};
     cairn_net *net = NULL;
     cairn_problem *prob = NULL;
     cairn_adjustment *adj = NULL;
@@ -308,7 +335,16 @@ int cairn_cli_adjust(int argc, char **argv)
     }
     if (err.ndiag && !quiet)
         cairn_cli_print_diags(&err);   /* warnings from loading */
-    cairn_error_reset(&err);
+    /* keep them for the report's caution; err starts afresh */
+    cairn_error_clear(&warnings);
+    warnings = err;
+    if (cairn_error_init(&err)) {
+        err = warnings;
+        cairn_error_init(&warnings);
+        fprintf(stderr, "cairn: out of memory\n");
+        status = CAIRN_EXIT_ADJUST;
+        goto out;
+    }
 
     cairn_adjust_options opt;
     cairn_adjust_options_default(&opt);
@@ -333,21 +369,30 @@ int cairn_cli_adjust(int argc, char **argv)
     }
     cairn_adjustment_release_cholmod(adj);
     dir = outdir ? cairn_strdup(outdir) : default_dir(project);
-    if (!dir) {
+    cairn_report_run run = {argc, argv, NULL, &warnings};
+    if (!dir || cairn_diagnoses_make(adj, an, &dg, &err) ||
+        ((formats & (CAIRN_FORMAT_TXT | CAIRN_FORMAT_HTML)) &&
+         cairn_report_build(adj, an, &dg, &run, &rep, &err))) {
         fprintf(stderr, "cairn: out of memory\n");
         status = CAIRN_EXIT_ADJUST;
         goto out;
     }
-    if (cairn_write_results(dir, adj, an, formats, &err)) {
+    if (cairn_write_result_set(dir, adj, an, &dg, &rep.report, formats,
+                               force ? CAIRN_WRITE_FORCE : 0, &err)) {
         cairn_cli_print_diags(&err);
+        fprintf(stderr, "cairn: no results written; any previous results in %s are "
+                "unchanged\n", dir);
         status = CAIRN_EXIT_INPUT;
         goto out;
     }
     if (!quiet)
-        summary(adj, an, dir, formats);
+        summary(adj, an, &dg, dir, formats);
     status = cairn_analysis_alarm(an) ? CAIRN_EXIT_FLAGGED : CAIRN_EXIT_OK;
 out:
     free(dir);
+    cairn_report_clear(&rep);
+    cairn_diagnoses_clear(&dg);
+    cairn_error_clear(&warnings);
     cairn_analysis_free(&an);
     cairn_adjustment_free(&adj);
     cairn_problem_free(&prob);
