@@ -65,9 +65,37 @@ void cairn_diag_target_height(cairn_diag_ctx *c)
     if (!(den > 0))
         return;
     const double d = (a1 * c->nab * w1 + a2 * c->nabla[j] * w2) / den;
-    if (fabs(a1 * d) < CAIRN_DIAG_FIT_MAX * c->sdn ||
-        fabs(a2 * d) < CAIRN_DIAG_FIT_MAX * c->sd[j])
+    if (fabs(a1 * d) < CAIRN_DIAG_FIT_MAX * c->sdn && fabs(a2 * d) < CAIRN_DIAG_FIT_MAX * c->sd[j])
         return;
+    const char *how = "zen and slope agree";
+    double digit_corr = NAN;
+    if (fabs(a1 * d) < CAIRN_DIAG_FIT_MAX * c->sdn ||
+        fabs(a2 * d) < CAIRN_DIAG_FIT_MAX * c->sd[j]) {
+        /* Only one of the two readings shows the height change: on a flat
+         * sight a wrong th moves the zenith angle a lot and the slope
+         * distance hardly at all. Then a zenith blunder of any origin
+         * would fit some Δ, so ask for more: the corrected th must differ
+         * from the booked one in a single digit whose place value is large
+         * against the uncertainty of Δ (a pencil slip such as 1.600 for
+         * 1.700), and the other reading must not contradict it (common
+         * practice, no source). */
+        const double sdd = 1.0 / sqrt(den);
+        double place = 0;
+        for (double pv = 1.0; pv >= 0.01 && !place; pv /= 10) {
+            double k = round(d / pv);
+            if (fabs(k) >= 1 && fabs(k) <= 9 && fabs(d - k * pv) <= CAIRN_DIAG_FIT_MAX * sdd &&
+                CAIRN_DIAG_FIT_MAX * sdd < 0.5 * pv) {
+                /* one digit: the booked digit at that place plus k stays 0..9 */
+                double digit = fmod(floor(fabs(o->th) / pv + 1e-9), 10.0);
+                if (digit + k >= 0 && digit + k <= 9)
+                    place = pv;
+            }
+        }
+        if (!place)
+            return;
+        how = "one digit of th; the zenith angle shows it";
+        digit_corr = o->th + round(d / place) * place;
+    }
     /* A target 5 m off its booked height is not a slip of the pencil
      * (common practice, no source). */
     if (fabs(d) > 5.0)
@@ -78,15 +106,15 @@ void cairn_diag_target_height(cairn_diag_ctx *c)
     k.kind = CAIRN_DIAG_TARGET_HEIGHT;
     k.mark = -1;
     k.fit = sqrt(f1 * f1 + f2 * f2);
-    k.corr = o->th + d;
+    k.corr = isfinite(digit_corr) ? digit_corr : o->th + d;
     k.key = "th";
     k.decimals = 3;
     const int bi = p->booked[c->iobs];
     if (!cairn_booked_text(&p->net->obs[bi], "th", k.booked, sizeof k.booked))
         k.decimals = cairn_diag_decimals(k.booked);
     const double f = cairn_length_factor(p->net->length_unit);
-    cairn_dg_printf(k.what, sizeof k.what, "target %+.3f %s, zen and slope agree",
-             d / f, cairn_length_unit_name(p->net->length_unit));
+    cairn_dg_printf(k.what, sizeof k.what, "target %+.3f %s, %s",
+             d / f, cairn_length_unit_name(p->net->length_unit), how);
     cairn_diag_offer(c, &k);
 }
 

@@ -99,14 +99,6 @@ s=$(seq_of "$x" zenith "projects/ollen-crossing/day1.cfb:23")
 d=$(diag "$x" "$s")
 case $d in
 target-height\|1.700\|) ok "demo: zenith day1.cfb:23 (seq $s) diagnosed target-height, th 1.700" ;;
-none\|\|)
-    # Known limitation of the diagnosis (src/quality/diagnose_mark.c): a
-    # target height is only proposed when the implied change moves BOTH the
-    # zenith angle and the slope distance by 3 sd or more; on this nearly
-    # level 140 m sight 0.1 m of th moves the slope by 1.2 mm (sd 1.4 mm),
-    # so the hypothesis is not formed. Reported, not hidden:
-    echo "XFAIL demo: zenith day1.cfb:23 (seq $s) is rejected but diagnosed 'none', not" \
-         "target-height (slope effect below 3 sd; see diagnose_mark.c)" ;;
 *) bad "demo: zenith day1.cfb:23 diagnosis is [$d]" ;;
 esac
 x=$tmp/hollin-beck/results.xml

@@ -658,6 +658,33 @@ START_TEST(target_height)
 }
 END_TEST
 
+/* The nearly level sight A->E (0.8 m rise over 320 m) with the prism at
+ * 1.700 m booked as th 1.600: the zenith angle is off by about 64" but
+ * the slope distance by only about 0.25 mm, below its noise. The zenith
+ * angle alone is rejected; the hypothesis holds because the correction
+ * changes one digit of th (regression, issue #8, 2026-12-01: the demo's
+ * planted target height was diagnosed "none"). */
+START_TEST(target_height_flat)
+{
+    fx f;
+    fx_init(&f);
+    tsight *s = sight(&f, A, E);
+    book_sight(&f, s, A, E, E, 1.700, "1.600");
+    fx_load(&f);
+    size_t kz = pidx(&f, s->line, CAIRN_OBS_ZENITH);
+    size_t rej[1] = {kz};
+    fx_adjust(&f, rej, 1);
+    cairn_diagnosis d;
+    diagnose(&f, kz, &d);
+    ck_assert_int_eq(d.kind, CAIRN_DIAG_TARGET_HEIGHT);
+    ck_assert_str_eq(d.reading, "th");
+    ck_assert_str_eq(d.corrected_text, "1.700");
+    /* the slope did not show it: the single-digit rule decided */
+    ck_assert_msg(strstr(d.note, "one digit of th"), "%s", d.note);
+    fx_free(&f);
+}
+END_TEST
+
 /* At A the crew sighted G, on the knoll just behind C, and booked "to C":
  * all three readings are wrong and rejected. */
 START_TEST(wrong_mark)
@@ -818,6 +845,7 @@ static Suite *diagnose_suite(void)
     tcase_add_test(tc, reduced_observations);
     tcase_add_test(tc, sign_slip);
     tcase_add_test(tc, target_height);
+    tcase_add_test(tc, target_height_flat);
     tcase_add_test(tc, wrong_mark);
     tcase_add_test(tc, no_simple_explanation);
     tcase_add_test(tc, clean_observation);
