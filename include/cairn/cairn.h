@@ -5,4 +5,12 @@
 #include "cairn/core.h"
 #include "cairn/model.h"
 #include "cairn/input.h"
+#include "cairn/solve.h"
+#include "cairn/start.h"
+#include "cairn/quality.h"
+#include "cairn/selinv.h"
+#include "cairn/misclosure.h"
+#include "cairn/diagnose.h"
+#include "cairn/output.h"
+#include "cairn/report.h"
 #endif
