@@ -176,6 +176,38 @@ static int add_controls(builder *b, cairn_error *err)
     return rc;
 }
 
+/* A zenith angle of exactly 0 or 180° (face-one value; 2π from a face-two
+ * 0) is a plumb sight: the target is straight above or below, so its
+ * horizontal direction is undefined, the zenith-angle equation has no
+ * gradient in e and n (atan2(d, Δz) at d = 0), and the reduction
+ * s·sin z gives a horizontal distance of 0, which the input stage rejects
+ * when it is booked directly. The adjustment cannot use it in dimension 2
+ * or 3, so it is reported here as an input error (exit 2), located at the
+ * zenith reading, instead of surfacing later as an obscure "coincident
+ * marks" or "cannot compute starting coordinates" (issue #9). Dimension 1
+ * uses it well: the height difference is then ±s. The tolerance, 1e-10
+ * rad (2e-5 arc-seconds), only absorbs the rounding of a booked 180°
+ * through the unit conversion; a real reading that close to plumb does not
+ * exist. */
+static int plumb_sight(const cairn_net *net, const cairn_obs *zen, double z1,
+                       int dim, cairn_error *err)
+{
+    if (!(fabs(sin(z1)) < 1e-10))
+        return 0;
+    const char *at = zen->at >= 0 && (size_t)zen->at < net->nmarks
+                         ? net->marks[zen->at].id : "?";
+    const char *to = zen->to >= 0 && (size_t)zen->to < net->nmarks
+                         ? net->marks[zen->to].id : "?";
+    return cairn_error_add(err, CAIRN_SEV_ERROR, zen->src.file, zen->src.line,
+                           zen->src.col,
+                           "zenith angle of exactly %s from %s to %s: a plumb "
+                           "sight has no horizontal direction, so dimension %d "
+                           "cannot use it (only dimension 1, as a height "
+                           "difference, can)",
+                           cos(z1) > 0 ? "0 degrees (straight up)" : "180 degrees (straight down)",
+                           at, to, dim);
+}
+
 /* One booked observation into zero or one adjustment observations.
  * `zen` is its sight's zenith reading or NULL; `face2` the sight's face. */
 static int reduce_one(builder *b, int dim, int use_rises, int bi,
@@ -213,6 +245,8 @@ static int reduce_one(builder *b, int dim, int use_rises, int bi,
     case CAIRN_OBS_ZENITH:
         if (dim != 3)
             return 0; /* used only through a slope's reduction */
+        if (plumb_sight(net, bk, face2 ? TWO_PI - bk->value : bk->value, dim, err))
+            return -1;
         touch(p, o.at, ENH);
         touch(p, o.to, ENH);
         return push(b, &o, bi, err);
@@ -229,6 +263,8 @@ static int reduce_one(builder *b, int dim, int use_rises, int bi,
                 return cairn_error_add(err, CAIRN_SEV_ERROR, bk->src.file,
                                        bk->src.line, bk->src.col,
                                        "slope distance needs a zenith angle in dimension 2");
+            if (plumb_sight(net, zen, z1, dim, err))
+                return -1;
             o.kind = CAIRN_OBS_HORIZ;
             o.value = s * sin(z1);
             o.aux_s = s;

@@ -121,8 +121,9 @@ static int check_part(const cairn_adjustment *adj, unsigned part, cairn_error *e
     unsigned *flags = calloc(nm ? nm : 1, sizeof *flags);
     int *ncontrol = calloc(nm ? nm : 1, sizeof *ncontrol);
     unsigned *ctl = calloc(nm ? nm : 1, sizeof *ctl);
-    if (!parent || !flags || !ncontrol || !ctl) {
-        free(parent); free(flags); free(ncontrol); free(ctl);
+    int *pivot = malloc((nm ? nm : 1) * sizeof *pivot); /* a controlled mark per root */
+    if (!parent || !flags || !ncontrol || !ctl || !pivot) {
+        free(parent); free(flags); free(ncontrol); free(ctl); free(pivot);
         cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory");
         return CAIRN_SOLVE_ENOMEM;
     }
@@ -170,6 +171,8 @@ static int check_part(const cairn_adjustment *adj, unsigned part, cairn_error *e
          * second part holding B would still float in translation */
         if ((c & part) && !(adj->datum_free && first_fixed)) {
             flags[parent[m]] |= 1;
+            if (!ncontrol[parent[m]])
+                pivot[parent[m]] = (int)m;
             ncontrol[parent[m]]++;
             first_fixed = 1;
         }
@@ -216,19 +219,25 @@ static int check_part(const cairn_adjustment *adj, unsigned part, cairn_error *e
         }
         /* one controlled position: rotation and scale must come from the
          * observations */
+        /* name the one controlled mark: it is what the part turns about
+         * or scales from, and what the user must look at */
+        const char *pid = net->marks[pivot[r]].id;
         if (no_rot)
             rc = cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
                 "datum defect: %s has no fixed orientation (hold a second mark, "
-                "or observe an azimuth)", where);
+                "or observe an azimuth): it can turn about %s, its only held or "
+                "weighted mark", where, pid);
         if (no_scale)
             rc = cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
                 "datum defect: %s has no scale (observe a distance, or hold a "
-                "second mark)", where);
+                "second mark): it can shrink or grow about %s, its only held or "
+                "weighted mark", where, pid);
     }
     free(parent);
     free(flags);
     free(ncontrol);
     free(ctl);
+    free(pivot);
     return rc ? CAIRN_SOLVE_EDATUM : 0;
 }
 
@@ -248,8 +257,9 @@ static int check_counts(const cairn_adjustment *adj, cairn_error *err)
     int *cplane = calloc(nm ? nm : 1, sizeof *cplane);
     int *cheight = calloc(nm ? nm : 1, sizeof *cheight);
     unsigned *kinds = calloc(nm ? nm : 1, sizeof *kinds);
-    if (!nd || !cplane || !cheight || !kinds) {
-        free(nd); free(cplane); free(cheight); free(kinds);
+    int *nsingle = calloc(nm ? nm : 1, sizeof *nsingle);
+    if (!nd || !cplane || !cheight || !kinds || !nsingle) {
+        free(nd); free(cplane); free(cheight); free(kinds); free(nsingle);
         cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory");
         return CAIRN_SOLVE_ENOMEM;
     }
@@ -264,8 +274,13 @@ static int check_counts(const cairn_adjustment *adj, cairn_error *err)
         int single = o->kind == CAIRN_OBS_DIRECTION && o->setup >= 0 &&
                      nd[o->setup] < 2;
         for (int j = 0; j < k; j++) {
-            if (single)
+            if (single) {
+                /* named in the message, so that "0 observations" does not
+                 * contradict a direction the user can see in the book */
+                if (ms[j] == o->to)
+                    nsingle[ms[j]]++;
                 continue;
+            }
             cplane[ms[j]]++;
             kinds[ms[j]] |= 1u << o->kind;
         }
@@ -291,24 +306,90 @@ static int check_counts(const cairn_adjustment *adj, cairn_error *err)
                     if (w > 0)
                         len += (size_t)w;
                 }
+            char single[160] = "";
+            if (nsingle[m])
+                snprintf(single, sizeof single, "; %s %d direction%s from a setup "
+                         "with no other direction, which only orient%s that setup",
+                         cplane[m] > 0 ? "besides, it has" : "it has", nsingle[m],
+                         nsingle[m] == 1 ? "" : "s", nsingle[m] == 1 ? "s" : "");
             rc = cairn_error_add(err, CAIRN_SEV_ERROR, src->file, src->line,
                 src->col, "mark %s is not determined: %d independent plane "
-                "observation%s%s%s%s for %d unknown coordinate%s", net->marks[m].id,
+                "observation%s%s%s%s for %d unknown coordinate%s%s", net->marks[m].id,
                 cplane[m] > 0 ? cplane[m] : 0, cplane[m] == 1 ? "" : "s",
-                len ? " (" : "", kl, len ? ")" : "", need_p, need_p == 1 ? "" : "s");
+                len ? " (" : "", kl, len ? ")" : "", need_p, need_p == 1 ? "" : "s",
+                single);
         }
         if (need_h && cheight[m] < 1)
             rc = cairn_error_add(err, CAIRN_SEV_ERROR, src->file, src->line,
                 src->col, "mark %s is not determined: its height is in the "
                 "adjustment but no height observation reaches it", net->marks[m].id);
     }
-    free(nd); free(cplane); free(cheight); free(kinds);
+    free(nd); free(cplane); free(cheight); free(kinds); free(nsingle);
     return rc ? CAIRN_SOLVE_EDATUM : 0;
+}
+
+/* ---- coincident marks ---------------------------------------------- */
+
+/* Two marks of one plane observation at the same starting position: the
+ * azimuth and the plane distance between them have no derivative there
+ * (equations.c), so nothing can be linearised. Found here by looking, for
+ * every observation, at the legs its equation needs — before any
+ * iteration, and also when every mark is held (no iteration at all) —
+ * and named with the shared position (issue #9: a copied mark line, or
+ * one mark booked under two names). Exact equality only: marks a
+ * millimetre apart are a legitimate, if weak, geometry. */
+static int check_coincident(const cairn_adjustment *adj, cairn_error *err)
+{
+    const cairn_net *net = adj->net;
+    const cairn_problem *p = adj->prob;
+    double lf = cairn_length_factor(net->length_unit);
+    int rc = 0;
+    for (size_t i = 0; i < p->nobs && !cairn_error_full(err); i++) {
+        const cairn_obs *o = &p->obs[i];
+        int legs[2][2] = {{-1, -1}, {-1, -1}};
+        switch (o->kind) {
+        case CAIRN_OBS_DIRECTION: case CAIRN_OBS_HORIZ: case CAIRN_OBS_ZENITH:
+            legs[0][0] = o->at; legs[0][1] = o->to;
+            break;
+        case CAIRN_OBS_ANGLE:
+            legs[0][0] = o->at; legs[0][1] = o->to;
+            legs[1][0] = o->at; legs[1][1] = o->from;
+            break;
+        case CAIRN_OBS_AZIMUTH:
+            legs[0][0] = o->from; legs[0][1] = o->to;
+            break;
+        default: /* slope: defined for a plumb line; heights: no plane leg */
+            continue;
+        }
+        for (int k = 0; k < 2; k++) {
+            int a = legs[k][0], b = legs[k][1];
+            if (a < 0 || b < 0 || (size_t)a >= net->nmarks || (size_t)b >= net->nmarks ||
+                a == b)
+                continue;
+            const cairn_mark *ma = &net->marks[a], *mb = &net->marks[b];
+            unsigned ka = ma->given | ma->computed, kb = mb->given | mb->computed;
+            if ((ka & (CAIRN_E | CAIRN_N)) != (CAIRN_E | CAIRN_N) ||
+                (kb & (CAIRN_E | CAIRN_N)) != (CAIRN_E | CAIRN_N) ||
+                ma->e != mb->e || ma->n != mb->n)
+                continue;
+            rc = cairn_error_add(err, CAIRN_SEV_ERROR, o->src.file, o->src.line,
+                                 o->src.col, "this %s cannot be computed: marks %s and "
+                                 "%s have the same starting plane position (e %.4f, "
+                                 "n %.4f %s): coincident marks, or one mark booked "
+                                 "under two names?", cairn_obs_kind_name(o->kind),
+                                 ma->id, mb->id, ma->e / lf, ma->n / lf,
+                                 cairn_length_unit_name(net->length_unit));
+            break;
+        }
+    }
+    return rc ? CAIRN_SOLVE_EGEOM : 0;
 }
 
 int cairn_solve_check_datum(const cairn_adjustment *adj, cairn_error *err)
 {
     int rc = 0, r;
+    if ((r = check_coincident(adj, err)) < 0)
+        return r; /* the counts below would only repeat it less clearly */
     if ((r = check_part(adj, CAIRN_E, err)) < 0) rc = r;
     if (rc == CAIRN_SOLVE_ENOMEM) return rc;
     if ((r = check_part(adj, CAIRN_H, err)) < 0) rc = r;

@@ -95,12 +95,47 @@ int cairn_solve_eval(const cairn_adjustment *adj, size_t i, const cairn_xstate *
     return 0;
 }
 
-static int geom_error(const cairn_adjustment *adj, size_t i, cairn_error *err)
+/* An observation that cannot be evaluated at x. The only geometric cause
+ * the equations have is two of its marks at the same plane position (a
+ * zero-length leg has no azimuth and no distance gradient), so name that
+ * pair and say whether the position is the starting one (given twice, or
+ * computed onto another mark) or one the iteration reached. */
+static int geom_error(const cairn_adjustment *adj, size_t i, const cairn_xstate *x,
+                      int iteration, cairn_error *err)
 {
     const cairn_obs *o = &adj->prob->obs[i];
+    const cairn_net *net = adj->net;
+    const char *kind = cairn_obs_kind_name(o->kind);
+    int legs[2][2] = {{o->kind == CAIRN_OBS_AZIMUTH ? o->from : o->at, o->to},
+                      {o->kind == CAIRN_OBS_ANGLE ? o->at : -1, o->from}};
+    for (int k = 0; k < 2; k++) {
+        int a = legs[k][0], b = legs[k][1];
+        if (a < 0 || b < 0 || (size_t)a >= net->nmarks || (size_t)b >= net->nmarks)
+            continue;
+        if (x->e[a] != x->e[b] || x->n[a] != x->n[b])
+            continue;
+        const char *ia = net->marks[a].id, *ib = net->marks[b].id;
+        if (iteration) {
+            cairn_error_add(err, CAIRN_SEV_ERROR, o->src.file, o->src.line, o->src.col,
+                            "this %s cannot be computed: marks %s and %s coincide in "
+                            "plan at the coordinates reached in iteration %d (the "
+                            "observations do not hold them apart)", kind, ia, ib,
+                            iteration);
+        } else {
+            double lf = cairn_length_factor(net->length_unit);
+            cairn_error_add(err, CAIRN_SEV_ERROR, o->src.file, o->src.line, o->src.col,
+                            "this %s cannot be computed: marks %s and %s have the "
+                            "same starting plane position (e %.4f, n %.4f %s): "
+                            "coincident marks, or one mark booked under two names?",
+                            kind, ia, ib, (x->e[a] + adj->origin_e) / lf,
+                            (x->n[a] + adj->origin_n) / lf,
+                            cairn_length_unit_name(net->length_unit));
+        }
+        return CAIRN_SOLVE_EGEOM;
+    }
     cairn_error_add(err, CAIRN_SEV_ERROR, o->src.file, o->src.line, o->src.col,
-                    "this %s cannot be computed from the current coordinates "
-                    "(coincident marks?)", cairn_obs_kind_name(o->kind));
+                    "this %s cannot be computed from the %s coordinates", kind,
+                    iteration ? "current" : "starting");
     return CAIRN_SOLVE_EGEOM;
 }
 
@@ -128,7 +163,7 @@ static int start_orientations(const cairn_adjustment *adj, cairn_xstate *x,
         if (cairn_solve_eval(adj, i, x, NULL, NULL, &c, &v)) {
             free(sx);
             free(sy);
-            return geom_error(adj, i, err);
+            return geom_error(adj, i, x, 0, err);
         }
         double a = c - o->value;
         sx[o->setup] += cos(a);
@@ -202,8 +237,9 @@ static void measure(const cairn_adjustment *adj, const double *dx, double t,
  * σ re-evaluated there. Returns vᵀPv through *pf and the smallest length
  * and angular σ. */
 static int linearise_all(cairn_adjustment *adj, const cairn_xstate *x,
-                         cairn_rows *rows, double *w, double *v, double *pf,
-                         double *pminlen, double *pminang, cairn_error *err)
+                         int iteration, cairn_rows *rows, double *w, double *v,
+                         double *pf, double *pminlen, double *pminang,
+                         cairn_error *err)
 {
     const cairn_problem *p = adj->prob;
     double f = 0, minlen = INFINITY, minang = INFINITY;
@@ -221,7 +257,7 @@ static int linearise_all(cairn_adjustment *adj, const cairn_xstate *x,
         w[i] = 1.0 / (sig * sig);
         if (cairn_solve_eval(adj, i, x, rows, rows ? rows->coef + rows->ptr[i] : NULL,
                              &adj->computed[i], &v[i]))
-            return geom_error(adj, i, err);
+            return geom_error(adj, i, x, iteration, err);
         adj->residual[i] = v[i];
         f += w[i] * v[i] * v[i];
         if (cairn_obs_kind_angular(o->kind)) {
@@ -237,7 +273,7 @@ static int linearise_all(cairn_adjustment *adj, const cairn_xstate *x,
     return 0;
 }
 
-static int no_convergence(const cairn_adjustment *adj, int iterations,
+static int no_convergence(const cairn_adjustment *adj, int iterations, int maxit,
                           const cairn_iter_log *lg, const char *why, cairn_error *err)
 {
     const cairn_net *net = adj->net;
@@ -247,11 +283,21 @@ static int no_convergence(const cairn_adjustment *adj, int iterations,
         snprintf(where, sizeof where, "mark %s (%s)", net->marks[lg->max_length_mark].id,
                  lg->max_length_comp == CAIRN_E ? "e" :
                  lg->max_length_comp == CAIRN_N ? "n" : "h");
+    /* Say what the user can do: the usual cause is a starting position far
+     * from the truth (or a blunder the starts were computed from), and the
+     * limit is theirs to raise when the corrections are still shrinking. */
+    char limit[80] = "";
+    if (!why[0]) /* a stalled line search is not helped by more iterations */
+        snprintf(limit, sizeof limit, ", or raise max-iterations (now %d)", maxit);
+    const char *mark = lg && lg->max_length_mark >= 0 ? net->marks[lg->max_length_mark].id
+                                                      : NULL;
     cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
                     "did not converge after %d iteration%s%s (largest correction "
-                    "%.6g %s at %s)", iterations, iterations == 1 ? "" : "s", why,
-                    lg ? lg->max_length / lf : 0.0,
-                    cairn_length_unit_name(net->length_unit), where);
+                    "%.6g %s at %s); check the starting coordinates%s%s and the "
+                    "observations that reach %s%s", iterations,
+                    iterations == 1 ? "" : "s", why, lg ? lg->max_length / lf : 0.0,
+                    cairn_length_unit_name(net->length_unit), where,
+                    mark ? " of " : "", mark ? mark : "", mark ? "it" : "them", limit);
     return CAIRN_SOLVE_ENOCONV;
 }
 
@@ -286,7 +332,7 @@ int cairn_solve_iterate(cairn_adjustment *adj, const cairn_adjust_options *opt,
         cairn_iter_log *lg = &adj->log[it - 1];
         double f0, minlen, minang;
         lg->iteration = it;
-        if ((rc = linearise_all(adj, x, rows, w, v, &f0, &minlen, &minang, err)))
+        if ((rc = linearise_all(adj, x, it - 1, rows, w, v, &f0, &minlen, &minang, err)))
             goto done;
         lg->vtpv_start = f0;
         cairn_solver_assemble(s, rows, nobs, w, v);
@@ -347,7 +393,7 @@ int cairn_solve_iterate(cairn_adjustment *adj, const cairn_adjust_options *opt,
                 }
             }
             if (!accepted) {
-                rc = no_convergence(adj, it, lg, ": no step decreases vTPv", err);
+                rc = no_convergence(adj, it, maxit, lg, ": no step decreases vTPv", err);
                 goto done;
             }
         }
@@ -359,14 +405,14 @@ int cairn_solve_iterate(cairn_adjustment *adj, const cairn_adjust_options *opt,
             opt->progress(lg, opt->progress_ctx);
     }
     if (!converged)
-        rc = no_convergence(adj, adj->iterations,
+        rc = no_convergence(adj, adj->iterations, maxit,
                             adj->iterations ? &adj->log[adj->iterations - 1] : NULL,
                             "", err);
     else if (opt->refactor_final) {
         /* factor, σ and design rows at the converged coordinates, for the
          * quality stage; the residuals are then those of the solution */
         double f, minlen, minang;
-        if ((rc = linearise_all(adj, x, rows, w, v, &f, &minlen, &minang, err)))
+        if ((rc = linearise_all(adj, x, adj->iterations, rows, w, v, &f, &minlen, &minang, err)))
             goto done;
         adj->vtpv = f;
         cairn_solver_assemble(s, rows, nobs, w, v);
@@ -375,7 +421,7 @@ int cairn_solve_iterate(cairn_adjustment *adj, const cairn_adjust_options *opt,
         double f, minlen, minang;
         /* σ and residuals at the solution; the factor stays that of the
          * last linearisation point */
-        rc = linearise_all(adj, x, NULL, w, v, &f, &minlen, &minang, err);
+        rc = linearise_all(adj, x, adj->iterations, NULL, w, v, &f, &minlen, &minang, err);
         adj->vtpv = f;
     }
 done:

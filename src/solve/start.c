@@ -73,6 +73,11 @@ int cairn_start_plane_length(const start_ctx *c, int i, double *pd, int *papprox
         *papprox = 1;
         return *pd > 0.0 ? 0 : -1;
     }
+    /* A plumb sight (zenith 0 or 180°, problem.c) carries no plane
+     * length: rounding would otherwise put its target 1e-15 m from the
+     * station and call that a start. */
+    if (!(fabs(sin(z1)) >= 1e-10))
+        return -1;
     if (c->dim == 3) {
         double dz;
         cairn_start_invert3(s, z1, opt->refraction, opt->scale, pd, &dz);
@@ -455,6 +460,27 @@ static int build(start_ctx *c)
     }
     free(fill);
 
+    /* Pass 3: the per-setup lists, by counting sort like the marks'. */
+    c->set_off = calloc(c->ns + 1, sizeof *c->set_off);
+    if (!c->set_off)
+        return -1;
+    for (size_t i = 0; i < c->no; i++)
+        if (net->obs[i].setup >= 0 && (size_t)net->obs[i].setup < c->ns)
+            c->set_off[net->obs[i].setup + 1]++;
+    for (size_t s = 0; s < c->ns; s++)
+        c->set_off[s + 1] += c->set_off[s];
+    c->set_obs = malloc((c->set_off[c->ns] ? c->set_off[c->ns] : 1) * sizeof *c->set_obs);
+    size_t *sfill = malloc(ns1 * sizeof *sfill);
+    if (!c->set_obs || !sfill) {
+        free(sfill);
+        return -1;
+    }
+    memcpy(sfill, c->set_off, c->ns * sizeof *sfill);
+    for (size_t i = 0; i < c->no; i++)
+        if (net->obs[i].setup >= 0 && (size_t)net->obs[i].setup < c->ns)
+            c->set_obs[sfill[net->obs[i].setup]++] = (int)i;
+    free(sfill);
+
     for (size_t m = 0; m < c->nm; m++) {
         const cairn_mark *mk = &net->marks[m];
         unsigned g = 0;
@@ -469,7 +495,7 @@ static int build(start_ctx *c)
         }
         c->known[m] = g;
     }
-    compute_need(c); /* pass 3 (needs the sight index) */
+    compute_need(c); /* pass 4 (needs the sight index) */
     return 0;
 }
 
@@ -477,6 +503,8 @@ static void free_ctx(start_ctx *c)
 {
     free(c->adj_off);
     free(c->adj);
+    free(c->set_off);
+    free(c->set_obs);
     free(c->zen_of);
     free(c->face2);
     free(c->need);

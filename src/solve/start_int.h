@@ -57,6 +57,14 @@ typedef struct {
     size_t *adj_off;
     int *adj;
 
+    /* Per setup, its observations in load order:
+     * set_obs[set_off[s] .. set_off[s+1]). Orienting a setup or listing
+     * its targets walks only these, not the station's whole list: a
+     * station with thousands of setups would otherwise cost setups ×
+     * readings (issue #9, 10 000 setups at one mark). */
+    size_t *set_off;
+    int *set_obs;
+
     /* Per sight number: index of its zenith, slope and horiz reading (or
      * -1), and whether the sight is face two (DEVELOPERS.md "Face two"). */
     int *zen_of, *slope_of, *horiz_of;

@@ -159,8 +159,8 @@ static size_t setup_targets(const start_ctx *c, int P, int s, double *E, double 
                             double *hz, int *tgt)
 {
     size_t k = 0;
-    for (size_t a = c->adj_off[P]; a < c->adj_off[P + 1] && k < START_MAX_GATHER; a++) {
-        int i = c->adj[a];
+    for (size_t a = c->set_off[s]; a < c->set_off[s + 1] && k < START_MAX_GATHER; a++) {
+        int i = c->set_obs[a];
         const cairn_obs *o = &c->net->obs[i];
         if (o->kind != CAIRN_OBS_DIRECTION || o->setup != s || o->at != P ||
             o->to == P || !known_en(c, o->to))
@@ -188,8 +188,8 @@ static int orient(start_ctx *c, int s)
         return 0;
     double w[START_MAX_GATHER];
     size_t k = 0;
-    for (size_t a = c->adj_off[A]; a < c->adj_off[A + 1] && k < START_MAX_GATHER; a++) {
-        int i = c->adj[a];
+    for (size_t a = c->set_off[s]; a < c->set_off[s + 1] && k < START_MAX_GATHER; a++) {
+        int i = c->set_obs[a];
         const cairn_obs *o = &c->net->obs[i];
         if (o->kind != CAIRN_OBS_DIRECTION || o->setup != s || o->at != A ||
             o->to == A || !known_en(c, o->to))
@@ -385,10 +385,10 @@ static int eval(start_ctx *c, int P, int allow_amb, result_t *res, int *pamb)
         for (size_t t = 0; t < nt; t++)
             dm += hypot(E[t] - e, N[t] - n) / (double)nt;
         int o1 = -1;
-        for (size_t a = c->adj_off[P]; a < c->adj_off[P + 1] && o1 < 0; a++)
-            if (c->net->obs[c->adj[a]].setup == g.setups[s] &&
-                c->net->obs[c->adj[a]].kind == CAIRN_OBS_DIRECTION)
-                o1 = c->adj[a];
+        for (size_t a = c->set_off[g.setups[s]]; a < c->set_off[g.setups[s] + 1] && o1 < 0;
+             a++)
+            if (c->net->obs[c->set_obs[a]].kind == CAIRN_OBS_DIRECTION)
+                o1 = c->set_obs[a];
         /* sd: a few direction sds over the mean sight (rough). */
         add_cand(cand, &k, e, n, 3.0 * dm * cairn_start_obs_sd(c, o1, dm), o1, -1,
                  START_RESECT, g.setups[s], -1);
@@ -521,18 +521,18 @@ static void seed_plane(start_ctx *c)
         if (!valid(c, A) || !(c->need[A] & EN))
             continue;
         int first = -1;
-        for (size_t a = c->adj_off[A]; a < c->adj_off[A + 1] && first < 0; a++) {
-            const cairn_obs *o = &c->net->obs[c->adj[a]];
+        for (size_t a = c->set_off[s]; a < c->set_off[s + 1] && first < 0; a++) {
+            const cairn_obs *o = &c->net->obs[c->set_obs[a]];
             if (o->setup == (int)s && o->at == A && valid(c, o->to) && o->to != A &&
-                cairn_start_is_plane_obs(c, c->adj[a]) && o->kind != CAIRN_OBS_ZENITH)
-                first = c->adj[a];
+                cairn_start_is_plane_obs(c, c->set_obs[a]) && o->kind != CAIRN_OBS_ZENITH)
+                first = c->set_obs[a];
         }
         if (first < 0)
             continue;
         const cairn_obs *f = &c->net->obs[first];
         int T = f->to, dir = -1, dist = -1;
-        for (size_t a = c->adj_off[A]; a < c->adj_off[A + 1]; a++) {
-            int i = c->adj[a];
+        for (size_t a = c->set_off[s]; a < c->set_off[s + 1]; a++) {
+            int i = c->set_obs[a];
             const cairn_obs *o = &c->net->obs[i];
             if (o->setup != (int)s || o->to != T ||
                 (f->sight >= 0 ? o->sight != f->sight : i != first))
@@ -588,9 +588,8 @@ static void spread(start_ctx *c, int P, int *dirty, size_t *pndirty, unsigned ch
                 push(dirty, pndirty, inq, ms[j]);
         if (o->setup < 0 || (size_t)o->setup >= c->ns || !orient(c, o->setup))
             continue;
-        int A = c->net->setups[o->setup].at;
-        for (size_t b = c->adj_off[A]; b < c->adj_off[A + 1]; b++) {
-            const cairn_obs *q = &c->net->obs[c->adj[b]];
+        for (size_t b = c->set_off[o->setup]; b < c->set_off[o->setup + 1]; b++) {
+            const cairn_obs *q = &c->net->obs[c->set_obs[b]];
             if (q->setup == o->setup && valid(c, q->to) && (c->need[q->to] & EN) &&
                 !known_en(c, q->to))
                 push(dirty, pndirty, inq, q->to);

@@ -42,6 +42,22 @@ int cairn_solve_prepare(cairn_adjustment *adj, cairn_error *err)
 {
     const cairn_net *net = adj->net;
     const cairn_problem *p = adj->prob;
+    /* Nothing observed: an "adjustment" of no observations would report
+     * success (0 unknowns, 0 dof, no test) and write result files that
+     * only echo the input, which reads as a passed adjustment. Stop here,
+     * before anything of the size of the marks is allocated (issue #9: a
+     * file of 10^6 mark records and nothing else). */
+    if (p->nobs == 0) {
+        if (net->nobs == 0)
+            cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
+                            "nothing to adjust: the input has %zu mark%s and no "
+                            "observations", net->nmarks, net->nmarks == 1 ? "" : "s");
+        else
+            cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
+                            "nothing to adjust: none of the %zu booked observations "
+                            "is used in dimension %d", net->nobs, p->dimension);
+        return CAIRN_SOLVE_EDATUM;
+    }
     unsigned *weighted = calloc(net->nmarks ? net->nmarks : 1, sizeof *weighted);
     if (!weighted) {
         cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory");
