@@ -22,7 +22,13 @@ if [ -z "$demo" ]; then
     if [ ! -f "$lib" ]; then
         echo "FAIL: $lib not found (set CAIRN or REPORT_DEMO)"; exit 1
     fi
-    ${CC:-cc} -std=c11 -D_POSIX_C_SOURCE=200809L -O1 -I"$root/include" \
+    # a sanitizer build of the library needs the same runtime
+    san=""
+    if nm "$lib" 2>/dev/null | grep -q __asan_init; then
+        san="-fsanitize=address,undefined"
+    fi
+    # shellcheck disable=SC2086
+    ${CC:-cc} -std=c11 -D_POSIX_C_SOURCE=200809L -O1 $san -I"$root/include" \
         -o "$tmp/report_demo" "$root/tests/tools/report_demo.c" "$lib" -lnettle -lm \
         || { echo "FAIL: cannot build report_demo"; exit 1; }
     demo=$tmp/report_demo
