@@ -22,7 +22,8 @@
  * reported when its fit is at most CAIRN_DIAG_FIT_MAX (3) and every
  * competing explanation — including "the booked value is right", whose fit
  * is |∇̂| / sd — fits at least CAIRN_DIAG_SEPARATION (2) times worse and
- * worse than CAIRN_DIAG_FIT_MAX. Hypotheses of one kind (e.g. ft and US
+ * worse than CAIRN_DIAG_FIT_MAX, and the booked value misfits by at least
+ * CAIRN_DIAG_GROSS (5) sd. Hypotheses of one kind (e.g. ft and US
  * ft, two transpositions) do not compete with each other: the best of the
  * kind stands for it. Two kinds that imply the very same corrected value
  * (a point moved two places and a value booked in cm) do not compete
@@ -78,6 +79,10 @@ typedef enum {
 /** How many times worse the next explanation must fit (common practice,
  *  no source). */
 #define CAIRN_DIAG_SEPARATION 2.0
+/** Smallest fit of "the booked value is right" (|∇̂| / sd) at which any
+ *  mistake is named: below it the error is too small to tell a booking
+ *  mistake from noise (common practice, no source). */
+#define CAIRN_DIAG_GROSS 5.0
 
 /** "transposed-digits", "wrong-face", ... "none" (FORMAT.md); "none" for a
  *  value out of range. */

@@ -148,6 +148,9 @@ static void print_obs_value(const cairn_net *net, const cairn_obs *o, double x)
                cairn_length_unit_name(net->length_unit));
 }
 
+/* Removed and flagged observations listed on screen at most. */
+#define SCREEN_LIST 20
+
 static void summary(const cairn_adjustment *adj, const cairn_analysis *an,
                     const cairn_diagnoses *dg, const char *dir, unsigned formats)
 {
@@ -185,6 +188,18 @@ static void summary(const cairn_adjustment *adj, const cairn_analysis *an,
                an->global.lower, an->global.upper, an->dof, an->global_alpha);
     else
         printf("  global test          not possible (no redundancy)\n");
+    /* A variance factor far above 1 almost always means standard deviations
+     * in the wrong unit or instruments far better than the real ones; the
+     * w-tests then flag good observations (common practice, no source). */
+    if (an->global.tested && !an->global.pass && an->global.sigma0_sq > 25)
+        printf("  WARNING              the residuals are %.0f times larger than the a priori "
+               "standard\n"
+               "                       deviations allow: check the sd units and instrument "
+               "precisions.\n"
+               "                       Until that is fixed the flags, removals and causes "
+               "below are not\n"
+               "                       evidence of blunders.\n",
+               sqrt(an->global.sigma0_sq));
     if (isfinite(an->taucrit))
         printf("  observation test     Pope's tau, critical value %.4f (alpha %g)\n",
                an->taucrit, an->alpha);
@@ -196,7 +211,10 @@ static void summary(const cairn_adjustment *adj, const cairn_analysis *an,
            an->snoop == CAIRN_SNOOP_ITERATE ? "iterate" :
            an->snoop == CAIRN_SNOOP_FLAG ? "flag" : "off",
            an->nflagged, an->nrejections, an->nunchecked, CAIRN_R_MIN);
-    for (size_t k = 0; k < an->nrejections; k++) {
+    /* one screen: the first SCREEN_LIST removals and flags; the reports
+     * and results.xml list them all */
+    size_t shown = 0;
+    for (size_t k = 0; k < an->nrejections && shown < SCREEN_LIST; k++, shown++) {
         const cairn_rejection *rj = &an->rejections[k];
         const cairn_obs *o = &p->obs[rj->obs];
         printf("    removed #%zu %s", rj->obs + 1, cairn_obs_kind_name(o->kind));
@@ -214,8 +232,9 @@ static void summary(const cairn_adjustment *adj, const cairn_analysis *an,
     if (an->reject_limit_hit)
         printf("    limit of %zu removals reached: the observations still failing are "
                "flagged\n", an->max_rejections);
-    for (size_t i = 0; i < an->nobs; i++)
+    for (size_t i = 0; i < an->nobs && shown < SCREEN_LIST; i++)
         if (an->status[i] == CAIRN_OBS_FLAGGED) {
+            shown++;
             const cairn_obs *o = &p->obs[i];
             printf("    flagged #%zu %s", i + 1, cairn_obs_kind_name(o->kind));
             if (o->src.file)
@@ -225,6 +244,9 @@ static void summary(const cairn_adjustment *adj, const cairn_analysis *an,
             printf("\n");
             print_cause(net, dg, i);
         }
+    if ((size_t)an->nflagged + an->nrejections > shown)
+        printf("    ... and %zu more: see report.txt, observations.csv or results.xml\n",
+               (size_t)an->nflagged + an->nrejections - shown);
     if (an->has_tolerance) {
         double lf = cairn_length_factor(net->length_unit);
         if (an->tolerance_pass < 0)

@@ -251,6 +251,18 @@ int cairn_diagnose(const cairn_problem *p, const cairn_state *x, const double *n
         if (!same_correction(best, &g[i]))
             next = &g[i];
     double need = next ? fmax(CAIRN_DIAG_SEPARATION * best->fit, CAIRN_DIAG_FIT_MAX) : 0.0;
+    /* A blunder barely past the w-test's critical value is as likely
+     * noise as a mistake, and among a dozen hypotheses one fits such a
+     * small error by chance; name none unless the booked value itself is
+     * clearly wrong. */
+    if (null.fit < CAIRN_DIAG_GROSS) {
+        out->fit_sigma = NAN;
+        out->next_sigma = NAN;
+        cairn_dg_printf(out->note, sizeof out->note,
+                        "no simple explanation: the estimated error is %.1f sd, too small "
+                        "to tell a booking mistake from noise", null.fit);
+        return 0;
+    }
     if (best->kind != CAIRN_DIAG_NONE && best->fit <= CAIRN_DIAG_FIT_MAX &&
         (!next || next->fit >= need)) {
         fill(&c, best, next, out);

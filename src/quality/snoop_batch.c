@@ -33,6 +33,12 @@ static int by_score_desc(const void *a, const void *b)
     return (i > j) - (i < j);
 }
 
+static int cmp_int(const void *a, const void *b)
+{
+    int x = *(const int *)a, y = *(const int *)b;
+    return (x > y) - (x < y);
+}
+
 /* The marks of observation o (at most 3). */
 static int obs_marks(const cairn_obs *o, int m[3])
 {
@@ -75,6 +81,18 @@ static int build_adjacency(const cairn_problem *p, size_t nmarks, size_t **pptr,
                     adj[fill[m[a]]++] = m[b];
     }
     free(fill);
+    /* one entry per neighbour: a mark with 10 000 setups has 40 000
+     * observations but only a few neighbours */
+    size_t w = 0;
+    for (size_t i = 0; i < nmarks; i++) {
+        size_t a = ptr[i], b = ptr[i + 1];
+        qsort(adj + a, b - a, sizeof *adj, cmp_int);
+        ptr[i] = w;
+        for (size_t q = a; q < b; q++)
+            if (q == a || adj[q] != adj[q - 1])
+                adj[w++] = adj[q];
+    }
+    ptr[nmarks] = w;
     *pptr = ptr;
     *padj = adj;
     return 0;
@@ -92,9 +110,13 @@ size_t cairn_qa_next_rejections(const cairn_analysis *an, const cairn_problem *p
     size_t *ptr = NULL;
     int *adj = NULL;
     unsigned char *blocked = calloc(nmarks ? nmarks : 1, 1);
-    if (!c || !blocked || build_adjacency(p, nmarks, &ptr, &adj)) {
+    /* a mark whose neighbours are all blocked already: each neighbour list
+     * is scanned at most once per round, so a round is O(marks + lines) */
+    unsigned char *expanded = calloc(nmarks ? nmarks : 1, 1);
+    if (!c || !blocked || !expanded || build_adjacency(p, nmarks, &ptr, &adj)) {
         /* out of memory: fall back to the single largest |w| */
         free(blocked);
+        free(expanded);
         size_t best = 0;
         double bs = -1;
         for (size_t i = 0; i < an->nobs; i++) {
@@ -130,17 +152,24 @@ size_t cairn_qa_next_rejections(const cairn_analysis *an, const cairn_problem *p
         /* block every mark within two lines of this observation's marks */
         for (int a = 0; a < nm; a++) {
             blocked[m[a]] = 1;
+            if (expanded[m[a]] == 2)
+                continue;
             for (size_t q = ptr[m[a]]; q < ptr[m[a] + 1]; q++) {
                 int b = adj[q];
                 blocked[b] = 1;
+                if (expanded[b])
+                    continue;
+                expanded[b] = 1;
                 for (size_t r = ptr[b]; r < ptr[b + 1]; r++)
                     blocked[adj[r]] = 1;
             }
+            expanded[m[a]] = 2;
         }
     }
     free(c);
     free(ptr);
     free(adj);
     free(blocked);
+    free(expanded);
     return k;
 }
