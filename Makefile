@@ -17,7 +17,7 @@ MANDIR   ?= $(PREFIX)/share/man
 BUILD    ?= build
 
 # Debian packages (DESIGN.md "Dependencies").
-DEB_PACKAGES = build-essential pkg-config libsuitesparse-dev libopenblas-dev \
+DEB_PACKAGES = build-essential pkg-config clang libsuitesparse-dev libopenblas-dev \
                liblapacke-dev libxml2-dev libgsl-dev check python3-numpy groff-base \
                valgrind nettle-dev
 
@@ -51,7 +51,7 @@ UNIT_BIN = $(UNIT_SRC:tests/unit/%.c=$(BUILD)/tests/%)
 
 .PHONY: all deps check check-unit check-bad check-integration check-asan \
         demo demo-check bench bench-load install uninstall clean man-check test-all \
-        check-sanitizers check-valgrind
+        check-sanitizers check-valgrind fuzz
 
 all: $(BUILD)/cairn $(BUILD)/libcairn.a
 
@@ -147,6 +147,12 @@ demo-check: $(BUILD)/cairn
 
 bench: all
 	BUILD=$(abspath $(BUILD)) sh tests/bench/run.sh
+
+FUZZ_SECONDS ?= 60
+FUZZ_JOBS    ?= 1
+# libFuzzer campaign on the input stage (needs clang); see tests/fuzz/README.md
+fuzz:
+	FUZZ_SECONDS=$(FUZZ_SECONDS) FUZZ_JOBS=$(FUZZ_JOBS) BUILD=$(BUILD) sh tests/fuzz/run.sh
 
 bench-load: all
 	sh tests/bench/bench-load.sh

@@ -272,12 +272,30 @@ static void allowed_units(unsigned allowed, char *buf, size_t n)
     }
 }
 
-int cairn_parse_sd(const char *s, unsigned allowed, cairn_sd *psd, char *msg,
+/* The input as messages echo it: at most 40 bytes, anything outside
+ * printable ASCII as '?' (a message must not carry control bytes or cut
+ * UTF-8 onto a terminal, nor be swamped by a 64 KB value). */
+static void show_input(const char *s, char *buf, size_t n)
+{
+    size_t i = 0, k = 0;
+    for (; s[i] && k + 1 < n && i < 40; i++) {
+        unsigned char ch = (unsigned char)s[i];
+        buf[k++] = (ch >= 0x20 && ch < 0x7f) ? (char)ch : '?';
+    }
+    if (s[i] && k + 4 < n) {
+        memcpy(buf + k, "...", 3);
+        k += 3;
+    }
+    buf[k] = '\0';
+}
+
+int cairn_parse_sd(const char *str, unsigned allowed, cairn_sd *psd, char *msg,
                    size_t msglen)
 {
     cairn_sd sd = {0, 0, 0, 0};
-    char units[128];
-    const char *p = s;
+    char units[128], s[64];
+    const char *p = str;
+    show_input(str, s, sizeof s);
     allowed_units(allowed, units, sizeof units);
     while (isspace((unsigned char)*p))
         p++;
@@ -325,8 +343,9 @@ int cairn_parse_sd(const char *s, unsigned allowed, cairn_sd *psd, char *msg,
             if (strlen(sd_units[i].name) == ul && !strncmp(sd_units[i].name, u0, ul))
                 unit = &sd_units[i];
         if (!unit) {
-            snprintf(msg, msglen, "unknown unit '%.*s' in '%s' (use %s)", (int)ul, u0, s,
-                     units);
+            char u[64];
+            show_input(u0, u, ul < 40 ? ul + 1 : sizeof u);
+            snprintf(msg, msglen, "unknown unit '%s' in '%s' (use %s)", u, s, units);
             return -1;
         }
         if (!(unit->kind & allowed)) {
@@ -351,7 +370,8 @@ int cairn_parse_sd(const char *s, unsigned allowed, cairn_sd *psd, char *msg,
         if (*p == '\0')
             break;
         if (*p != '+') {
-            snprintf(msg, msglen, "unexpected '%c' in '%s' (terms are joined with +)", *p, s);
+            snprintf(msg, msglen, "unexpected '%c' in '%s' (terms are joined with +)",
+                     (*p >= 0x20 && *p < 0x7f) ? *p : '?', s);
             return -1;
         }
         p++;

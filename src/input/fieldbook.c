@@ -281,13 +281,17 @@ static int record(fb_state *st)
         if (st->nw < 3)
             return cairn_in_err(c, st->line, st->w[0].col,
                                 st->nw < 2 ? "option needs a name and a value"
-                                     : "option %s needs a value", st->w[1].s);
+                                     : "option %s needs a value",
+                                st->nw < 2 ? "" : SHOW(st->w[1].s));
         in_field f = {st->w[1].s, NULL, st->line, st->w[1].col, st->w[2].col};
         int used = is_sd_key(f.key) ? sd_value(st, 2, &f.val) : (f.val = st->w[2].s, 1);
-        if (2 + used < st->nw)
+        if (2 + used < st->nw) {
+            char show_key[64];
             return cairn_in_err(c, st->line, st->w[2 + used].col,
                                 "unexpected '%s' after the value of option %s",
-                                SHOW(st->w[2 + used].s), f.key);
+                                SHOW(st->w[2 + used].s),
+                                cairn_in_show(f.key, show_key, sizeof show_key));
+        }
         r.name = "option";
         r.line = st->line;
         r.col = st->w[0].col;
@@ -363,10 +367,27 @@ int cairn_in_fieldbook_load(cairn_net *net, cairn_error *err, const char *path, 
     if (S_ISDIR(sb.st_mode))
         return cairn_in_err(&c, eline, ecol, "cannot read field book '%s': it is a directory",
                             SHOW(path));
+    /* A FIFO or a terminal would block for ever, a device may never end. */
+    if (inc && !S_ISREG(sb.st_mode))
+        return cairn_in_err(&c, eline, ecol,
+                            "cannot read field book '%s': not a regular file", SHOW(path));
     for (const in_open *o = inc ? inc->open : NULL; o; o = o->parent)
         if (o->dev == sb.st_dev && o->ino == sb.st_ino)
             return cairn_in_err(&c, eline, ecol,
                                 "field book '%s' includes itself (an include cycle)", SHOW(path));
+    /* Read from two places, a book would count its observations twice (and
+     * books that include the next one many times would be read
+     * exponentially often). Compared by device and inode, as above. */
+    for (size_t i = 0; i < net->nfiles; i++) {
+        struct stat ob;
+        if (!stat(net->files[i], &ob) && ob.st_dev == sb.st_dev && ob.st_ino == sb.st_ino) {
+            char shown[64];
+            return cairn_in_err(&c, eline, ecol,
+                                "field book '%s' is read a second time (already read as '%s'); "
+                                "its observations would count twice",
+                                SHOW(path), cairn_in_show(net->files[i], shown, sizeof shown));
+        }
+    }
     char *text;
     size_t len;
     if (cairn_in_read_file(path, &text, &len))

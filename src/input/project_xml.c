@@ -54,8 +54,11 @@ static int locate(xml_state *st, xmlNodePtr n)
         if (cairn_grow((void **)&st->pos, &st->cap, st->npos + 1, sizeof *st->pos))
             return -1;
         size_t s, e;
+        /* One entry per element, found or not (line 0), so that attach
+         * pairs each element with its own tag. */
+        tagpos *p = &st->pos[st->npos++];
+        memset(p, 0, sizeof *p);
         if (!cairn_xpos_next_tag(st->x, (const char *)n->name, &s, &e)) {
-            tagpos *p = &st->pos[st->npos++];
             p->start = s;
             p->end = e;
             cairn_xpos_linecol(st->x, s, &p->line, &p->col);
@@ -72,7 +75,7 @@ static void attach(xml_state *st, xmlNodePtr n, size_t *k)
     for (; n; n = n->next) {
         if (n->type != XML_ELEMENT_NODE)
             continue;
-        n->_private = *k < st->npos ? &st->pos[*k] : NULL;
+        n->_private = *k < st->npos && st->pos[*k].line ? &st->pos[*k] : NULL;
         (*k)++;
         attach(st, n->children, k);
     }
@@ -89,6 +92,11 @@ static int make_rec(xml_state *st, xmlNodePtr n, in_rec *r, in_field *f)
     r->f = f;
     r->nf = 0;
     for (xmlAttrPtr a = n->properties; a; a = a->next) {
+        /* p:id="..." is not our id: the format uses no namespaces. */
+        if (a->ns)
+            return cairn_in_err(c, r->line, r->col, "unknown attribute '%s%s%s' on <%s>",
+                                a->ns->prefix ? (const char *)a->ns->prefix : "",
+                                a->ns->prefix ? ":" : "", a->name, r->name);
         if (r->nf == MAX_ATTRS)
             return cairn_in_err(c, r->line, r->col, "more than %d attributes on <%s>", MAX_ATTRS,
                                 r->name);
@@ -214,6 +222,23 @@ static int include(xml_state *st, const in_rec *r)
 
 static int element(xml_state *st, xmlNodePtr n);
 
+/* The format uses no XML namespaces: <x:mark> or a default namespace is
+ * someone else's vocabulary, not ours read under another name. */
+static int no_ns(xml_state *st, xmlNodePtr n)
+{
+    int line, col;
+    char show[64];
+    if (!n->ns)
+        return 0;
+    where(st, n, &line, &col);
+    return cairn_in_err(st->c, line, col,
+                        "<%s%s%s> is in the XML namespace '%s'; a cairn project uses none",
+                        n->ns->prefix ? (const char *)n->ns->prefix : "",
+                        n->ns->prefix ? ":" : "", n->name,
+                        cairn_in_show(n->ns->href ? (const char *)n->ns->href : "", show,
+                                      sizeof show));
+}
+
 static int setup_elem(xml_state *st, xmlNodePtr n, const in_rec *r)
 {
     int rc = check_content(st, n, 0, "sight");
@@ -224,7 +249,8 @@ static int setup_elem(xml_state *st, xmlNodePtr n, const in_rec *r)
             continue;
         in_field f[MAX_ATTRS];
         in_rec sr;
-        if (make_rec(st, k, &sr, f) || check_content(st, k, 0, NULL) ||
+        sr.nf = 0;
+        if (no_ns(st, k) || make_rec(st, k, &sr, f) || check_content(st, k, 0, NULL) ||
             cairn_in_rec_sight(st->c, &sr))
             rc = -1;
         free_rec(&sr);
@@ -240,6 +266,8 @@ static int element(xml_state *st, xmlNodePtr n)
     in_rec r;
     const char *name = (const char *)n->name;
     int rc;
+    if (no_ns(st, n))
+        return -1;
     if (make_rec(st, n, &r, f)) {
         free_rec(&r);
         return -1;
@@ -287,7 +315,10 @@ static int root_elem(xml_state *st, xmlNodePtr root)
     in_rec r;
     static const char *const keys[] = {"format", NULL};
     const in_field *pf[1];
+    char show[64];
     int rc = 0, line, col;
+    if (no_ns(st, root))
+        return -1;
     if (strcmp((const char *)root->name, "cairn-project")) {
         where(st, root, &line, &col);
         return cairn_in_err(c, line, col, "the root element must be <cairn-project>, not <%s>",
@@ -301,7 +332,8 @@ static int root_elem(xml_state *st, xmlNodePtr root)
         rc = cairn_in_err(c, r.line, r.col, "<cairn-project> needs format=\"1\"");
     else if (strcmp(pf[0]->val, "1"))
         rc = cairn_in_err(c, pf[0]->line, pf[0]->kcol,
-                          "format: this program reads format 1, not '%.20s'", pf[0]->val);
+                          "format: this program reads format 1, not '%s'",
+                          cairn_in_show(pf[0]->val, show, sizeof show));
     free_rec(&r);
     if (rc)
         return rc;
@@ -337,6 +369,16 @@ static int xml_error(in_ctx *c, xmlParserCtxtPtr p)
     size_t n = strlen(msg);
     while (n && (msg[n - 1] == '\n' || msg[n - 1] == ' '))
         msg[--n] = '\0';
+    /* One diagnostic is one line: libxml2's messages may hold newlines
+     * ("... indicate encoding !\nBytes: 0x..."), and a cut may split a
+     * UTF-8 sequence. */
+    for (size_t i = 0; i < n; i++)
+        if ((unsigned char)msg[i] < 0x20 || msg[i] == 0x7f)
+            msg[i] = ' ';
+    if (!cairn_in_utf8_valid(msg, n))
+        for (size_t i = 0; i < n; i++)
+            if ((unsigned char)msg[i] >= 0x80)
+                msg[i] = '?';
     return cairn_in_err(c, e ? e->line : 0, e && e->line ? e->int2 : 0, "malformed XML: %s",
                         msg);
 }

@@ -34,13 +34,17 @@ int cairn_in_rec_units(in_ctx *c, const in_rec *r, int project)
     return 0;
 }
 
+/* *p changes only when the value is good (a rejected option must not
+ * leave its value behind). */
 static int prob(in_ctx *c, const in_rec *r, const in_field *f, double *p)
 {
-    if (cairn_in_val_number(c, r, f, p))
+    double x;
+    if (cairn_in_val_number(c, r, f, &x))
         return -1;
-    if (!(*p > 0 && *p < 1))
+    if (!(x > 0 && x < 1))
         return cairn_in_err(c, f->line, f->vcol, "%s: must lie strictly between 0 and 1",
                             f->key);
+    *p = x;
     return 0;
 }
 

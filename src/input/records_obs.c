@@ -28,6 +28,24 @@ static int distance(in_ctx *c, const in_rec *r, const in_field *f, double *pm)
     return 0;
 }
 
+/* An atmospheric (or other) distance correction in parts per million.
+ * Real ones are tens of ppm; beyond 1 % it is a booking slip, and an
+ * unbounded value could make a distance zero, negative or infinite (the
+ * setup's and the sight's ppm are added). */
+#define PPM_MAX 10000.0
+static int ppm_val(in_ctx *c, const in_rec *r, const in_field *f, double *pppm)
+{
+    char show[64];
+    double x;
+    if (cairn_in_val_number(c, r, f, &x))
+        return -1;
+    if (!(fabs(x) <= PPM_MAX))
+        return cairn_in_err(c, f->line, f->vcol, "ppm: '%s' is outside [-%g, %g]", SHOW(f->val),
+                            PPM_MAX, PPM_MAX);
+    *pppm = x;
+    return 0;
+}
+
 static int obs_sd(in_ctx *c, const in_rec *r, const in_field *f, unsigned allowed,
                   cairn_sd *sd)
 {
@@ -78,7 +96,7 @@ int cairn_in_rec_setup(in_ctx *c, const in_rec *r)
         return -1;
     if (f[2] && cairn_in_val_length(c, r, f[2], &s.ih))
         return -1;
-    if (f[3] && cairn_in_val_number(c, r, f[3], &s.ppm))
+    if (f[3] && ppm_val(c, r, f[3], &s.ppm))
         return -1;
     if (mark_ref(c, r, f[0], &s.at))
         return -1;
@@ -117,7 +135,7 @@ int cairn_in_rec_sight(in_ctx *c, const in_rec *r)
     if (f[HORIZ] && distance(c, r, f[HORIZ], &horiz)) return -1;
     if (f[TH] && cairn_in_val_length(c, r, f[TH], &th)) return -1;
     if (f[FACE] && cairn_in_val_int(c, r, f[FACE], 1, 2, &face)) return -1;
-    if (f[PPM] && cairn_in_val_number(c, r, f[PPM], &ppm)) return -1;
+    if (f[PPM] && ppm_val(c, r, f[PPM], &ppm)) return -1;
     if (f[HZSD] && obs_sd(c, r, f[HZSD], CAIRN_SD_ANGLE, &hz_sd)) return -1;
     if (f[ZENSD] && obs_sd(c, r, f[ZENSD], CAIRN_SD_ANGLE, &zen_sd)) return -1;
     if (f[DISTSD] && obs_sd(c, r, f[DISTSD], CAIRN_SD_LENGTH | CAIRN_SD_PPM, &dist_sd))

@@ -118,16 +118,22 @@ int cairn_xpos_next_tag(xpos *x, const char *name, size_t *pstart, size_t *pend)
             i = j;
             continue;
         }
+        /* Start tags in the raw text and elements in document order go in
+         * step, so the element's tag is this one or none: a name that
+         * differs (a namespace prefix, a document not in UTF-8) gives no
+         * position, and the next element starts from the next tag. Never
+         * searching further keeps the whole scan linear. */
         size_t end = tag_end(x, i);
+        x->cur = end;
         if (i + 1 + n < x->len && !memcmp(x->text + i + 1, name, n) &&
             is_name_end(x->text[i + 1 + n])) {
             *pstart = i;
             *pend = end;
-            x->cur = end;
             return 0;
         }
-        i = end;
+        return -1;
     }
+    x->cur = x->len;
     return -1;
 }
 

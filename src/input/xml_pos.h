@@ -22,8 +22,10 @@ int cairn_xpos_init(xpos *x, const char *text, size_t len);
 void cairn_xpos_free(xpos *x);
 /* 1-based line and byte column of offset off. */
 void cairn_xpos_linecol(const xpos *x, size_t off, int *pline, int *pcol);
-/* Find the next start tag `name` after the cursor; [*pstart, *pend) is
- * the tag from '<' to just past '>'. Returns 0, or -1 if there is none. */
+/* Take the next start tag after the cursor, which must be `name`;
+ * [*pstart, *pend) is the tag from '<' to just past '>'. Returns 0, or -1
+ * when there is none or it has another name (the cursor still moves past
+ * it). */
 int cairn_xpos_next_tag(xpos *x, const char *name, size_t *pstart, size_t *pend);
 /* Offset of attribute `attr`'s name inside the tag [start, end), or
  * (size_t)-1. */

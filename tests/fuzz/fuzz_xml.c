@@ -1,0 +1,47 @@
+/* cairn — libFuzzer harness for the XML project file.
+ *
+ * Each input is one project document, parsed from memory under the name
+ * fuzz.xml into a fresh cairn_net with cairn_parse_project_xml, then
+ * validated as cairn_load_project does (unless the error list is full),
+ * checked by the oracle of fuzz_common.c and freed. <fieldbook file="..."/>
+ * resolves in the sandbox directory (fuzz_common.h), which holds a few
+ * small books; naming fuzz.xml reads the input itself as a field book.
+ * Build and run: tests/fuzz/run.sh. */
+#include <stddef.h>
+#include <stdint.h>
+
+#include <libxml/parser.h>
+
+#include "cairn/cairn.h"
+#include "fuzz_common.h"
+
+int LLVMFuzzerInitialize(int *argc, char ***argv);
+int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size);
+
+int LLVMFuzzerInitialize(int *argc, char ***argv)
+{
+    (void)argc;
+    (void)argv;
+    xmlInitParser();
+    cairn_fuzz_sandbox();
+    return 0;
+}
+
+int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
+{
+    cairn_error err;
+    cairn_fuzz_sandbox();
+    cairn_fuzz_stage_input("fuzz.xml", data, size);
+    if (cairn_error_init(&err))
+        return 0;
+    cairn_net *net = cairn_net_new();
+    if (net) {
+        int rc = cairn_parse_project_xml(net, "fuzz.xml", (const char *)data, size, &err);
+        if (!cairn_error_full(&err) && cairn_validate(net, &err))
+            rc = -1;
+        cairn_fuzz_check(net, &err, rc, 0);
+    }
+    cairn_net_free(&net);
+    cairn_error_clear(&err);
+    return 0;
+}
