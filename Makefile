@@ -17,7 +17,7 @@ MANDIR   ?= $(PREFIX)/share/man
 BUILD    ?= build
 
 # Debian packages (DESIGN.md "Dependencies").
-DEB_PACKAGES = build-essential pkg-config clang libsuitesparse-dev libopenblas-dev \
+DEB_PACKAGES = build-essential pkg-config libsuitesparse-dev libopenblas-dev \
                liblapacke-dev libxml2-dev libgsl-dev check python3-numpy groff-base \
                valgrind nettle-dev
 
@@ -152,6 +152,7 @@ FUZZ_SECONDS ?= 60
 FUZZ_JOBS    ?= 1
 # libFuzzer campaign on the input stage (needs clang); see tests/fuzz/README.md
 fuzz:
+	$(MAKE) deps DEB_PACKAGES="$(DEB_PACKAGES) clang libclang-rt-14-dev binutils"
 	FUZZ_SECONDS=$(FUZZ_SECONDS) FUZZ_JOBS=$(FUZZ_JOBS) BUILD=$(BUILD) sh tests/fuzz/run.sh
 
 bench-load: all
