@@ -81,7 +81,7 @@ void cairn_diag_target_height(cairn_diag_ctx *c)
          * practice, no source). */
         const double sdd = 1.0 / sqrt(den);
         double place = 0;
-        for (double pv = 1.0; pv >= 0.01 && !place; pv /= 10) {
+        for (double pv = 1.0; pv >= 0.01 && place == 0.0; pv /= 10) {
             double k = round(d / pv);
             if (fabs(k) >= 1 && fabs(k) <= 9 && fabs(d - k * pv) <= CAIRN_DIAG_FIT_MAX * sdd &&
                 CAIRN_DIAG_FIT_MAX * sdd < 0.5 * pv) {
@@ -91,7 +91,7 @@ void cairn_diag_target_height(cairn_diag_ctx *c)
                     place = pv;
             }
         }
-        if (!place)
+        if (place == 0.0)
             return;
         how = "one digit of th; the zenith angle shows it";
         digit_corr = o->th + round(d / place) * place;

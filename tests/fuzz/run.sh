@@ -23,14 +23,14 @@ CLANG=${CLANG:-clang}
 BUILD=${BUILD:-build}
 FUZZ_SECONDS=${FUZZ_SECONDS:-60}
 FUZZ_JOBS=${FUZZ_JOBS:-1}
-FUZZ_TARGETS=${FUZZ_TARGETS:-fieldbook xml}
+FUZZ_TARGETS=${FUZZ_TARGETS:-fieldbook xml adjust}
 FUZZ_ARGS=${FUZZ_ARGS:-}
 # The harnesses chdir into their sandbox: every path they get is absolute.
 case $BUILD in
 /*) out=$BUILD/fuzz ;;
 *) out=$(pwd)/$BUILD/fuzz ;;
 esac
-mkdir -p "$out/crashes" "$out/corpus/fieldbook" "$out/corpus/xml" || exit 2
+mkdir -p "$out/crashes" "$out/corpus/fieldbook" "$out/corpus/xml" "$out/corpus/adjust" || exit 2
 
 if ! command -v "$CLANG" >/dev/null 2>&1; then
     echo "fuzz: $CLANG not found (libFuzzer needs clang; set CLANG=)" >&2
@@ -38,7 +38,7 @@ if ! command -v "$CLANG" >/dev/null 2>&1; then
 fi
 
 # --- build ----------------------------------------------------------------
-pkgs="libxml-2.0 gsl openblas lapacke"
+pkgs="libxml-2.0 gsl openblas lapacke nettle"
 # shellcheck disable=SC2086
 pkg_cflags=$(pkg-config --cflags $pkgs) || exit 2
 # GSL's own CBLAS would shadow OpenBLAS (as in the Makefile).
@@ -67,15 +67,33 @@ for src in src/core/*.c src/model/*.c src/input/*.c tests/fuzz/fuzz_common.c; do
     esac
     objs="$objs $obj"
 done
+# The whole-path harness also needs the later stages (not sandboxed: they
+# open no input files but through the loader and the diagnosis, which
+# re-reads the staged input by name).
+aobjs=""
+for src in src/solve/*.c src/quality/*.c src/output/*.c; do
+    obj=$out/obj/$(echo "$src" | tr / _ | sed 's/\.c$/.o/')
+    # shellcheck disable=SC2086
+    "$CLANG" $cflags -c "$src" -o "$obj" || { echo "fuzz: cannot compile $src" >&2; exit 2; }
+    objcopy --redefine-sym stat=cairn_fuzz_stat --redefine-sym fopen=cairn_fuzz_fopen \
+        "$obj" || exit 2
+    aobjs="$aobjs $obj"
+done
 for t in $FUZZ_TARGETS; do
     echo "fuzz: building $out/fuzz_$t"
+    extra=""
+    [ "$t" = adjust ] && extra=$aobjs
     # shellcheck disable=SC2086
-    "$CLANG" $cflags -fsanitize=fuzzer -o "$out/fuzz_$t" "tests/fuzz/fuzz_$t.c" $objs $libs \
+    "$CLANG" $cflags -fsanitize=fuzzer -o "$out/fuzz_$t" "tests/fuzz/fuzz_$t.c" $objs $extra $libs \
         || { echo "fuzz: build of fuzz_$t failed" >&2; exit 2; }
 done
 
 # --- seed corpora -----------------------------------------------------------
 sh tests/fuzz/seed.sh "$out/corpus" || exit 2
+# the whole-path harness starts from the field books, small ones only
+for f in "$out/corpus/fieldbook"/*; do
+    [ -f "$f" ] && [ "$(wc -c <"$f")" -le 8192 ] && cp "$f" "$out/corpus/adjust/"
+done
 
 # --- run ----------------------------------------------------------------------
 # ASan: report leaks, fail hard; UBSan: print the stack. A timeout is one
@@ -92,9 +110,11 @@ export ASAN_OPTIONS UBSAN_OPTIONS
 run_one() {
     t=$1
     # shellcheck disable=SC2086
-    "$out/fuzz_$t" -max_total_time="$FUZZ_SECONDS" -max_len=65536 -timeout=10 \
+    len=65536 dict=$t
+    [ "$t" = adjust ] && len=8192 dict=fieldbook
+    "$out/fuzz_$t" -max_total_time="$FUZZ_SECONDS" -max_len=$len -timeout=10 \
         -rss_limit_mb=2048 -malloc_limit_mb=2048 -print_final_stats=1 \
-        -artifact_prefix="$out/crashes/$t-" -dict="$(pwd)/tests/fuzz/$t.dict" $FUZZ_ARGS \
+        -artifact_prefix="$out/crashes/$t-" -dict="$(pwd)/tests/fuzz/$dict.dict" $FUZZ_ARGS \
         "$out/corpus/$t" >"$out/$t.log" 2>&1
     rc=$?
     if [ "$rc" -eq 0 ]; then
