@@ -145,6 +145,13 @@ void cairn_adjustment_free(cairn_adjustment **padj);
 const cholmod_factor *cairn_adjustment_factor(const cairn_adjustment *adj);
 /** The cholmod_common the factor was made with (cholmod_start, int). */
 cholmod_common *cairn_adjustment_common(cairn_adjustment *adj);
+/** The same factor and normal matrix, writable, for the quality stage's
+ *  re-adjustments: cairn_analyse refills N on its pattern and refactorises
+ *  it into this factor in place (one symbolic analysis, no second factor),
+ *  so after snooping has rejected observations both describe the
+ *  re-adjusted network. NULL after cairn_adjustment_release_cholmod. */
+cholmod_factor *cairn_adjustment_factor_rw(cairn_adjustment *adj);
+cholmod_sparse *cairn_adjustment_normal_rw(cairn_adjustment *adj);
 
 /** Wall-clock seconds spent in the sparse normal equations (make bench). */
 typedef struct {

@@ -9,6 +9,7 @@
 #include <string.h>
 
 #include "cairn/output.h"
+#include "fmt.h"
 
 #define LEN_DEC 7
 #define DEG_DEC 10
@@ -23,7 +24,7 @@ static const char *num(char *buf, size_t n, double x, int dec)
         buf[0] = 0;
         return buf;
     }
-    snprintf(buf, n, "%.*f", dec, x);
+    cairn_fmt_fixed(buf, n, x, dec);   /* = snprintf "%.*f", faster */
     if (buf[0] == '-') {
         const char *p = buf + 1;
         while (*p == '0' || *p == '.')
@@ -32,6 +33,18 @@ static const char *num(char *buf, size_t n, double x, int dec)
             memmove(buf, buf + 1, strlen(buf));
     }
     return buf;
+}
+
+/* k cells, each after a comma (fputs: no format to parse per number). */
+static void cells(FILE *f, int k, const char *c0, const char *c1, const char *c2,
+                  const char *c3, const char *c4, const char *c5, const char *c6,
+                  const char *c7, const char *c8, const char *c9)
+{
+    const char *c[10] = {c0, c1, c2, c3, c4, c5, c6, c7, c8, c9};
+    for (int j = 0; j < k; j++) {
+        fputc(',', f);
+        fputs(c[j], f);
+    }
 }
 
 static double at(const double *a, size_t i)
@@ -86,18 +99,31 @@ int cairn_write_marks_csv(FILE *f, const cairn_adjustment *adj,
             if (az < 0)
                 az += 180.0;
         }
-        fprintf(f, ",%s,%s,%s,%s,%s,%s,%s,%s,%s,%s\n", role_name(adj->role[m]),
-                num(b[0], 64, (t & CAIRN_E) ? adj->e[m] / lf : NAN, LEN_DEC),
-                num(b[1], 64, (t & CAIRN_N) ? adj->n[m] / lf : NAN, LEN_DEC),
-                num(b[2], 64, (t & CAIRN_H) ? adj->h[m] / lf : NAN, LEN_DEC),
-                num(b[3], 64, (t & CAIRN_E) ? at(q->sd_e, m) / lf : NAN, LEN_DEC),
-                num(b[4], 64, (t & CAIRN_N) ? at(q->sd_n, m) / lf : NAN, LEN_DEC),
-                num(b[5], 64, (t & CAIRN_H) ? at(q->sd_h, m) / lf : NAN, LEN_DEC),
-                num(b[6], 64, (t & CAIRN_E) ? at(q->major, m) / lf : NAN, LEN_DEC),
-                num(b[7], 64, (t & CAIRN_E) ? at(q->minor, m) / lf : NAN, LEN_DEC),
-                num(b[8], 64, (t & CAIRN_E) ? az : NAN, DEG_DEC));
+        fputc(',', f);
+        fputs(role_name(adj->role[m]), f);
+        cells(f, 9,
+              num(b[0], 64, (t & CAIRN_E) ? adj->e[m] / lf : NAN, LEN_DEC),
+              num(b[1], 64, (t & CAIRN_N) ? adj->n[m] / lf : NAN, LEN_DEC),
+              num(b[2], 64, (t & CAIRN_H) ? adj->h[m] / lf : NAN, LEN_DEC),
+              num(b[3], 64, (t & CAIRN_E) ? at(q->sd_e, m) / lf : NAN, LEN_DEC),
+              num(b[4], 64, (t & CAIRN_N) ? at(q->sd_n, m) / lf : NAN, LEN_DEC),
+              num(b[5], 64, (t & CAIRN_H) ? at(q->sd_h, m) / lf : NAN, LEN_DEC),
+              num(b[6], 64, (t & CAIRN_E) ? at(q->major, m) / lf : NAN, LEN_DEC),
+              num(b[7], 64, (t & CAIRN_E) ? at(q->minor, m) / lf : NAN, LEN_DEC),
+              num(b[8], 64, (t & CAIRN_E) ? az : NAN, DEG_DEC), "");
+        fputc('\n', f);
     }
     return ferror(f) ? -1 : 0;
+}
+
+/* "seq,kind" at the start of an observation row. */
+static void seq(FILE *f, size_t i, const char *kind)
+{
+    char b[32];
+    cairn_fmt_fixed(b, sizeof b, (double)i, 0);   /* i < 2^53: exact, = "%zu" */
+    fputs(b, f);
+    fputc(',', f);
+    fputs(kind, f);
 }
 
 static void mark_field(FILE *f, const cairn_net *net, int m)
@@ -133,34 +159,36 @@ int cairn_write_observations_csv(FILE *f, const cairn_adjustment *adj,
             sd = adj->sigma[i] * CAIRN_RHO_SEC;
             mdb = at(q->mdb, i) * CAIRN_RHO_SEC;
             dec = DEG_DEC;
-            fprintf(f, "%zu,%s", i + 1, cairn_obs_kind_name(o->kind));
+            seq(f, i + 1, cairn_obs_kind_name(o->kind));
             mark_field(f, net, o->at);
             mark_field(f, net, o->from);
             mark_field(f, net, o->to);
-            fprintf(f, ",%s,%s,%s,%s", num(b[0], 64, obs, dec), num(b[1], 64, adjd, dec),
-                    num(b[2], 64, res, SEC_DEC), num(b[3], 64, sd, SEC_DEC));
-            fprintf(f, ",%s,%s,%s", num(b[4], 64, at(q->redundancy, i), RATIO_DEC),
-                    num(b[5], 64, at(q->w, i), W_DEC), num(b[6], 64, mdb, SEC_DEC));
+            cells(f, 7, num(b[0], 64, obs, dec), num(b[1], 64, adjd, dec),
+                  num(b[2], 64, res, SEC_DEC), num(b[3], 64, sd, SEC_DEC),
+                  num(b[4], 64, at(q->redundancy, i), RATIO_DEC),
+                  num(b[5], 64, at(q->w, i), W_DEC), num(b[6], 64, mdb, SEC_DEC), "", "",
+                  "");
         } else {
             obs = o->value / lf;
             res = adj->residual[i] / lf;
             adjd = (o->value + adj->residual[i]) / lf;
             sd = adj->sigma[i] / lf;
             mdb = at(q->mdb, i) / lf;
-            fprintf(f, "%zu,%s", i + 1, cairn_obs_kind_name(o->kind));
+            seq(f, i + 1, cairn_obs_kind_name(o->kind));
             mark_field(f, net, o->at);
             mark_field(f, net, o->from);
             mark_field(f, net, o->to);
-            fprintf(f, ",%s,%s,%s,%s", num(b[0], 64, obs, LEN_DEC),
-                    num(b[1], 64, adjd, LEN_DEC), num(b[2], 64, res, LEN_DEC),
-                    num(b[3], 64, sd, LEN_DEC));
-            fprintf(f, ",%s,%s,%s", num(b[4], 64, at(q->redundancy, i), RATIO_DEC),
-                    num(b[5], 64, at(q->w, i), W_DEC), num(b[6], 64, mdb, LEN_DEC));
+            cells(f, 7, num(b[0], 64, obs, LEN_DEC), num(b[1], 64, adjd, LEN_DEC),
+                  num(b[2], 64, res, LEN_DEC), num(b[3], 64, sd, LEN_DEC),
+                  num(b[4], 64, at(q->redundancy, i), RATIO_DEC),
+                  num(b[5], 64, at(q->w, i), W_DEC), num(b[6], 64, mdb, LEN_DEC), "", "",
+                  "");
         }
-        fprintf(f, ",%s,", cairn_obs_status_name(q->status ? q->status[i]
-                                                           : CAIRN_OBS_OK));
+        fputc(',', f);
+        fputs(cairn_obs_status_name(q->status ? q->status[i] : CAIRN_OBS_OK), f);
+        fputc(',', f);
         if (o->src.file && o->src.line > 0)
-            snprintf(src, sizeof src, "%s:%d", o->src.file, o->src.line);
+            cairn_fmt_file_line(src, sizeof src, o->src.file, o->src.line);
         else if (o->src.file)
             snprintf(src, sizeof src, "%s", o->src.file);
         else

@@ -7,6 +7,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "fmt.h"
 #include "report_int.h"
 
 const char *const cairn_rpt_caution_text =
@@ -43,7 +44,13 @@ const char *cairn_rpt_num(double x, int dec, int sign, char *buf, size_t n)
             buf[0] = 0;
         return buf;
     }
-    snprintf(buf, n, sign ? "%+.*f" : "%.*f", dec, x);
+    /* = snprintf(buf, n, sign ? "%+.*f" : "%.*f", dec, x), faster */
+    if (sign && !signbit(x) && n > 1) {
+        buf[0] = '+';
+        cairn_fmt_fixed(buf + 1, n - 1, x, dec);
+    } else {
+        cairn_fmt_fixed(buf, n, x, dec);
+    }
     /* "-0.000" and "+0.000" read as a sign that is not there */
     if (buf[0] == '-' || buf[0] == '+') {
         const char *p = buf + 1;

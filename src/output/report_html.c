@@ -11,6 +11,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "fmt.h"
 #include "report_int.h"
 
 #define WORST_MAX 10
@@ -136,7 +137,11 @@ static void tdn(html *h, const char *text, double v)
         fputs("<td class=\"r\"></td>", h->f);
         return;
     }
-    fprintf(h->f, "<td class=\"r\" data-v=\"%.10g\">", v);
+    char b[48];
+    cairn_fmt_general(b, sizeof b, v, 10);   /* = "%.10g", faster */
+    fputs("<td class=\"r\" data-v=\"", h->f);
+    fputs(b, h->f);
+    fputs("\">", h->f);
     esc(h, text);
     fputs("</td>", h->f);
 }
@@ -445,8 +450,15 @@ static void obs_row(html *h, const cairn_report_obs *o, int full)
     const cairn_report *r = h->r;
     char b[64], src[CAIRN_PATH_MAX + 32];
     double sm = o->angular ? cairn_rpt_small(r, 1.0) : 1.0 / cairn_rpt_lf(r);
-    fprintf(h->f, "<tr class=\"st-%s\"><td class=\"r\" data-v=\"%zu\">%zu</td>",
-            status_cls(o->status), o->seq, o->seq);
+    char sq[32];
+    cairn_fmt_fixed(sq, sizeof sq, (double)o->seq, 0);   /* = "%zu" */
+    fputs("<tr class=\"st-", h->f);
+    fputs(status_cls(o->status), h->f);
+    fputs("\"><td class=\"r\" data-v=\"", h->f);
+    fputs(sq, h->f);
+    fputs("\">", h->f);
+    fputs(sq, h->f);
+    fputs("</td>", h->f);
     td(h, o->kind ? o->kind : "");
     td(h, cairn_rpt_id(r, o->at));
     td(h, cairn_rpt_id(r, o->from));
@@ -463,8 +475,11 @@ static void obs_row(html *h, const cairn_report_obs *o, int full)
     tdn(h, cairn_rpt_num(o->w, 2, 1, b, sizeof b), o->w);
     if (full)
         tdn(h, cairn_rpt_obs_small(r, o, o->mdb, 0, b, sizeof b), o->mdb * sm);
-    fprintf(h->f, "<td class=\"s-%s\">%s</td><td class=\"mono\">", status_cls(o->status),
-            cairn_rpt_status_name(o->status));
+    fputs("<td class=\"s-", h->f);
+    fputs(status_cls(o->status), h->f);
+    fputs("\">", h->f);
+    fputs(cairn_rpt_status_name(o->status), h->f);
+    fputs("</td><td class=\"mono\">", h->f);
     esc(h, cairn_rpt_source(o, src, sizeof src));
     fputs("</td></tr>\n", h->f);
 }

@@ -10,6 +10,7 @@
 #include <string.h>
 
 #include "cairn/output.h"
+#include "fmt.h"
 
 #define LEN_DEC 7    /* as csv.c */
 #define DEG_DEC 10
@@ -36,8 +37,20 @@ static void esc(FILE *f, const char *s)
 
 static void attr_s(FILE *f, const char *name, const char *v)
 {
-    fprintf(f, " %s=\"", name);
+    fputc(' ', f);
+    fputs(name, f);
+    fputs("=\"", f);
     esc(f, v);
+    fputc('"', f);
+}
+
+/* name="text", the text needing no escape (a number). */
+static void attr_raw(FILE *f, const char *name, const char *text)
+{
+    fputc(' ', f);
+    fputs(name, f);
+    fputs("=\"", f);
+    fputs(text, f);
     fputc('"', f);
 }
 
@@ -47,17 +60,20 @@ static void attr_f(FILE *f, const char *name, double x, int dec)
     char b[64];
     if (!isfinite(x))
         return;
-    snprintf(b, sizeof b, "%.*f", dec, x);
+    cairn_fmt_fixed(b, sizeof b, x, dec);   /* = snprintf "%.*f", faster */
     if (b[0] == '-' && strspn(b + 1, "0.") == strlen(b + 1))
         memmove(b, b + 1, strlen(b));
-    fprintf(f, " %s=\"%s\"", name, b);
+    attr_raw(f, name, b);
 }
 
 /* Significant digits (statistics); omitted when not finite. */
 static void attr_g(FILE *f, const char *name, double x)
 {
-    if (isfinite(x))
-        fprintf(f, " %s=\"%.12g\"", name, x);
+    char b[64];
+    if (isfinite(x)) {
+        cairn_fmt_general(b, sizeof b, x, 12);   /* = snprintf "%.12g" */
+        attr_raw(f, name, b);
+    }
 }
 
 /* Azimuth of an axis in [0, 180) degrees, also after rounding to DEG_DEC
@@ -72,7 +88,9 @@ static double axis_deg(double rad)
 
 static void attr_i(FILE *f, const char *name, long v)
 {
-    fprintf(f, " %s=\"%ld\"", name, v);
+    char b[32];
+    cairn_fmt_fixed(b, sizeof b, (double)v, 0);   /* = "%ld" for |v| < 2^53 */
+    attr_raw(f, name, b);
 }
 
 static const char *role_name(cairn_role r)
@@ -92,7 +110,7 @@ static const char *comp_name(unsigned c)
 static void source(char *buf, size_t n, const cairn_src *s)
 {
     if (s->file && s->line > 0)
-        snprintf(buf, n, "%s:%d", s->file, s->line);
+        cairn_fmt_file_line(buf, n, s->file, s->line);
     else
         snprintf(buf, n, "%s", s->file ? s->file : "");
 }

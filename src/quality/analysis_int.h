@@ -14,8 +14,8 @@
 typedef struct {
     cairn_adjustment *adj;
     cholmod_common *cc;     /* the adjustment's Common */
-    cholmod_factor *L;      /* own factor (copy of the adjustment's symbolic
-                               analysis), NULL until the first refactorisation */
+    cholmod_factor *L;      /* the adjustment's factor, refactorised in place */
+    cholmod_sparse *N;      /* the adjustment's N, refilled on its pattern */
     int n;                  /* unknowns */
     size_t nobs;
     size_t *rp;             /* nobs + 1: row i has entries rp[i] .. rp[i+1]-1 */
@@ -33,8 +33,8 @@ typedef struct {
 /* Build rows and state from the adjustment at its solution. */
 int cairn_qa_engine_init(cairn_qa_engine *eg, cairn_adjustment *adj, cairn_error *err);
 void cairn_qa_engine_clear(cairn_qa_engine *eg);
-/* The factor to use now: the engine's own after it factorised, else the
- * adjustment's. */
+/* The factor of the current state (the adjustment's, refactorised in
+ * place by every re-adjustment). */
 const cholmod_factor *cairn_qa_engine_factor(const cairn_qa_engine *eg);
 
 /* Remove observation i and re-adjust from the current solution (first step
@@ -42,8 +42,11 @@ const cholmod_factor *cairn_qa_engine_factor(const cairn_qa_engine *eg);
  * factorisations, then a final factorisation at the solution). Writes the
  * new solution into adj. Returns 0 or a CAIRN_SOLVE_* status. */
 int cairn_qa_engine_reject(cairn_qa_engine *eg, size_t i, cairn_error *err);
-/* Remove k > 1 observations at once and re-adjust by Gauss–Newton with
- * fresh factorisations. Same contract as cairn_qa_engine_reject. */
+/* Remove k > 1 observations at once and re-adjust by Gauss–Newton (first
+ * step by the Woodbury form on the current factor when k is small, else
+ * on one fresh factorisation; chord steps refined to the Gauss–Newton
+ * step after it; a final factorisation). Same contract as
+ * cairn_qa_engine_reject. */
 int cairn_qa_engine_reject_many(cairn_qa_engine *eg, const size_t *idx, size_t k,
                                 cairn_error *err);
 

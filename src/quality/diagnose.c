@@ -84,7 +84,7 @@ static void add_reading(cairn_diag_ctx *c, const cairn_obs *bo)
     default: rd->key = "value"; break;
     }
     rd->decimals = rd->angular && pu == CAIRN_ANGLE_DMS ? 4 : 3;
-    if (!cairn_booked_text(bo, rd->key, rd->text, sizeof rd->text) &&
+    if (!cairn_booked_text_cached(bo, rd->key, rd->text, sizeof rd->text, c->text) &&
         !cairn_diag_text_unit(rd->text, rd->angular, bo->value, pu, &rd->unit)) {
         rd->decimals = cairn_diag_decimals(rd->text);
     } else {
@@ -170,6 +170,13 @@ static void fill(const cairn_diag_ctx *c, const cairn_diag_cand *k, const cairn_
 int cairn_diagnose(const cairn_problem *p, const cairn_state *x, const double *nabla,
                    const double *sd_nabla, size_t iobs, cairn_diagnosis *out)
 {
+    return cairn_diagnose_grid(p, x, nabla, sd_nabla, iobs, NULL, NULL, out);
+}
+
+int cairn_diagnose_grid(const cairn_problem *p, const cairn_state *x, const double *nabla,
+                        const double *sd_nabla, size_t iobs, const cairn_mark_grid *grid,
+                        cairn_text_cache *tc, cairn_diagnosis *out)
+{
     if (!out)
         return -1;
     memset(out, 0, sizeof *out);
@@ -183,6 +190,8 @@ int cairn_diagnose(const cairn_problem *p, const cairn_state *x, const double *n
     }
     cairn_diag_ctx c;
     memset(&c, 0, sizeof c);
+    c.grid = grid;
+    c.text = tc;
     c.p = p;
     c.x = x;
     c.nabla = nabla;

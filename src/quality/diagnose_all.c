@@ -14,6 +14,7 @@
 #include <string.h>
 
 #include "cairn/quality.h"
+#include "diagnose_int.h"
 
 void cairn_diagnoses_clear(cairn_diagnoses *dg)
 {
@@ -62,6 +63,13 @@ int cairn_diagnoses_make(const cairn_adjustment *adj, const cairn_analysis *an,
         }
     }
     cairn_state x = {adj->e, adj->n, adj->h, adj->omega};
+    /* one grid of the marks for every wrong-mark search (out of memory:
+     * each search scans all marks, with the same outcome) */
+    cairn_mark_grid grid;
+    (void)cairn_mark_grid_build(&x, adj->net->nmarks, &grid);
+    /* the input files in memory, read once for all the booked texts */
+    cairn_text_cache text;
+    memset(&text, 0, sizeof text);
     for (size_t i = 0; i < n; i++) {
         cairn_diagnosis *d = &pdg->d[i];
         d->kind = CAIRN_DIAG_NONE;
@@ -71,10 +79,12 @@ int cairn_diagnoses_make(const cairn_adjustment *adj, const cairn_analysis *an,
             continue;
         /* -1 only for an observation without a usable estimate: it says so
          * in its note, which is what the reports show */
-        (void)cairn_diagnose(adj->prob, &x, nab, sd, i, d);
+        (void)cairn_diagnose_grid(adj->prob, &x, nab, sd, i, &grid, &text, d);
         pdg->made[i] = 1;
         pdg->nmade++;
     }
+    cairn_mark_grid_clear(&grid);
+    cairn_text_cache_clear(&text);
     free(nab);
     free(sd);
     free(rrej);

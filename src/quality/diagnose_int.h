@@ -37,8 +37,54 @@ typedef struct {
     char what[64];                 /* how the mistake was made, for the note */
 } cairn_diag_cand;
 
+/* Marks bucketed by plane position on a uniform grid, built once for all
+ * the diagnoses of an analysis so that the wrong-mark search visits only
+ * the marks near a station, not all of them (diagnose_mark.c). */
+typedef struct {
+    double e0, n0, h;              /* origin and cell size, m */
+    int nx, ny;
+    size_t *start;                 /* nx·ny + 1: cell c holds marks[start[c] ..] */
+    int *marks;                    /* in increasing number within a cell */
+} cairn_mark_grid;
+
+/* Build over the marks with finite e and n in x; 0, or -1 when out of
+ * memory (g is then empty and the search scans every mark). */
+int cairn_mark_grid_build(const cairn_state *x, size_t nmarks, cairn_mark_grid *g);
+void cairn_mark_grid_clear(cairn_mark_grid *g);
+
+/* Input files held in memory with their line starts, so that the booked
+ * text of each diagnosed reading costs one line, not a re-read of the
+ * file up to it (diagnose_text.c). Filled on demand; a file that cannot
+ * be read is remembered as such. */
+#define CAIRN_TEXT_CACHE_FILES 8
+typedef struct {
+    char *path;
+    char *text;                    /* NULL: unreadable */
+    size_t len;
+    size_t *line;                  /* start of each line */
+    size_t nline;
+    int xml;
+    size_t bom;
+} cairn_text_file;
+typedef struct {
+    cairn_text_file f[CAIRN_TEXT_CACHE_FILES];
+    int n, next;                   /* entries used; next to replace when full */
+} cairn_text_cache;
+void cairn_text_cache_clear(cairn_text_cache *tc);
+/* cairn_booked_text through the cache (NULL: no cache). */
+int cairn_booked_text_cached(const cairn_obs *o, const char *key, char *buf, size_t n,
+                             cairn_text_cache *tc);
+
+/* cairn_diagnose with a grid and a text cache (NULL: scan every mark,
+ * read the files afresh). */
+int cairn_diagnose_grid(const cairn_problem *p, const cairn_state *x, const double *nabla,
+                        const double *sd_nabla, size_t iobs, const cairn_mark_grid *g,
+                        cairn_text_cache *tc, cairn_diagnosis *out);
+
 /* State of one diagnosis. */
 typedef struct {
+    const cairn_mark_grid *grid;   /* NULL or empty: scan every mark */
+    cairn_text_cache *text;        /* NULL: read files afresh */
     const cairn_problem *p;
     const cairn_state *x;
     const double *nabla, *sd;

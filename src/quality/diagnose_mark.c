@@ -10,6 +10,7 @@
  * as in diagnose.c). */
 #include <math.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "diagnose_int.h"
@@ -110,7 +111,7 @@ void cairn_diag_target_height(cairn_diag_ctx *c)
     k.key = "th";
     k.decimals = 3;
     const int bi = p->booked[c->iobs];
-    if (!cairn_booked_text(&p->net->obs[bi], "th", k.booked, sizeof k.booked))
+    if (!cairn_booked_text_cached(&p->net->obs[bi], "th", k.booked, sizeof k.booked, c->text))
         k.decimals = cairn_diag_decimals(k.booked);
     const double f = cairn_length_factor(p->net->length_unit);
     cairn_dg_printf(k.what, sizeof k.what, "target %+.3f %s, %s",
@@ -175,11 +176,122 @@ static void try_mark(cairn_diag_ctx *c, size_t lo, size_t hi, int role, int m)
     cairn_diag_offer(c, &k);
 }
 
+/* ---- the grid of marks ----------------------------------------------------- */
+
+void cairn_mark_grid_clear(cairn_mark_grid *g)
+{
+    free(g->start);
+    free(g->marks);
+    memset(g, 0, sizeof *g);
+}
+
+/* Cell index of coordinate v on an axis of n cells (clamped). Monotonic
+ * in v, so every mark within [v − r, v + r] lies in the cells from
+ * cell(v − r) to cell(v + r). */
+static int cell(double v, double v0, double h, int n)
+{
+    double c = floor((v - v0) / h);
+    return c < 0 ? 0 : c >= (double)n ? n - 1 : (int)c;
+}
+
+int cairn_mark_grid_build(const cairn_state *x, size_t nmarks, cairn_mark_grid *g)
+{
+    memset(g, 0, sizeof *g);
+    if (!x->e || !x->n || nmarks == 0 || nmarks > (size_t)1 << 30)
+        return 0;
+    double emin = INFINITY, emax = -INFINITY, nmin = INFINITY, nmax = -INFINITY;
+    size_t k = 0;
+    for (size_t m = 0; m < nmarks; m++)
+        if (isfinite(x->e[m]) && isfinite(x->n[m])) {
+            emin = fmin(emin, x->e[m]);
+            emax = fmax(emax, x->e[m]);
+            nmin = fmin(nmin, x->n[m]);
+            nmax = fmax(nmax, x->n[m]);
+            k++;
+        }
+    if (k == 0)
+        return 0;
+    /* about two marks per cell over the bounding box */
+    double w = fmax(emax - emin, 1.0), hgt = fmax(nmax - nmin, 1.0);
+    double h = sqrt(w * hgt / (0.5 * (double)k));
+    h = fmax(h, fmax(w, hgt) / 4096.0);
+    int nx = (int)fmin(floor(w / h) + 1, 4096.0), ny = (int)fmin(floor(hgt / h) + 1, 4096.0);
+    size_t nc = (size_t)nx * (size_t)ny;
+    g->start = calloc(nc + 1, sizeof *g->start);
+    g->marks = malloc(k * sizeof *g->marks);
+    size_t *fill = malloc(nc * sizeof *fill);
+    if (!g->start || !g->marks || !fill) {
+        free(fill);
+        cairn_mark_grid_clear(g);
+        return -1;
+    }
+    g->e0 = emin;
+    g->n0 = nmin;
+    g->h = h;
+    g->nx = nx;
+    g->ny = ny;
+    for (size_t m = 0; m < nmarks; m++)
+        if (isfinite(x->e[m]) && isfinite(x->n[m]))
+            g->start[(size_t)cell(x->n[m], nmin, h, ny) * (size_t)nx +
+                     (size_t)cell(x->e[m], emin, h, nx) + 1]++;
+    for (size_t c = 0; c < nc; c++)
+        g->start[c + 1] += g->start[c];
+    memcpy(fill, g->start, nc * sizeof *fill);
+    for (size_t m = 0; m < nmarks; m++)
+        if (isfinite(x->e[m]) && isfinite(x->n[m]))
+            g->marks[fill[(size_t)cell(x->n[m], nmin, h, ny) * (size_t)nx +
+                          (size_t)cell(x->e[m], emin, h, nx)]++] = (int)m;
+    free(fill);
+    return 0;
+}
+
+static int cmp_int(const void *a, const void *b)
+{
+    int u = *(const int *)a, v = *(const int *)b;
+    return (u > v) - (u < v);
+}
+
+/* The marks within radius of station st, in increasing number, from the
+ * grid; NULL (scan everything) when there is no grid or the square of the
+ * radius covers more cells than there are marks. *pk: how many. */
+static int *near_marks(const cairn_mark_grid *g, const cairn_state *x, int st,
+                       double radius, size_t nmarks, size_t *pk)
+{
+    if (!g || !g->start || !(radius < INFINITY))
+        return NULL;
+    double e = x->e[st], n = x->n[st];
+    int x0 = cell(e - radius, g->e0, g->h, g->nx), x1 = cell(e + radius, g->e0, g->h, g->nx);
+    int y0 = cell(n - radius, g->n0, g->h, g->ny), y1 = cell(n + radius, g->n0, g->h, g->ny);
+    size_t cells = (size_t)(x1 - x0 + 1) * (size_t)(y1 - y0 + 1);
+    if (cells > nmarks)
+        return NULL;
+    size_t cnt = 0;
+    for (int cy = y0; cy <= y1; cy++) {
+        size_t c = (size_t)cy * (size_t)g->nx;
+        cnt += g->start[c + (size_t)x1 + 1] - g->start[c + (size_t)x0];
+    }
+    int *out = malloc((cnt ? cnt : 1) * sizeof *out);
+    if (!out)
+        return NULL;
+    size_t k = 0;
+    for (int cy = y0; cy <= y1; cy++) {
+        size_t c = (size_t)cy * (size_t)g->nx;
+        for (size_t q = g->start[c + (size_t)x0]; q < g->start[c + (size_t)x1 + 1]; q++)
+            if (plane_dist(x, st, g->marks[q]) <= radius)
+                out[k++] = g->marks[q];
+    }
+    qsort(out, k, sizeof *out, cmp_int);
+    *pk = k;
+    return out;
+}
+
 /* Every other mark near the station is tried in place of the booked one
  * (O(marks)); each reading of the sight must fit it. The search radius,
  * three times the booked sight's length and at least 100 m, keeps marks
  * that nobody could have sighted by mistake out of the contest (common
- * practice, no source); a run without plane coordinates searches all. */
+ * practice, no source); a run without plane coordinates searches all.
+ * cairn_diagnoses_make passes a grid of the marks, so a national network
+ * visits the few cells around the station instead of every mark. */
 void cairn_diag_wrong_mark(cairn_diag_ctx *c)
 {
     const cairn_obs *o = c->o;
@@ -199,6 +311,19 @@ void cairn_diag_wrong_mark(cairn_diag_ctx *c)
             double d = plane_dist(x, st, booked);
             if (isfinite(d))
                 radius = fmax(3.0 * d, 100.0);
+        }
+        /* the same marks in the same order either way: those within the
+         * radius, by increasing number */
+        size_t nnear = 0;
+        int *near = near_marks(c->grid, x, st, radius, net->nmarks, &nnear);
+        if (near) {
+            for (size_t q = 0; q < nnear; q++) {
+                int mi = near[q];
+                if (mi != o->at && mi != o->from && mi != o->to)
+                    try_mark(c, lo, hi, role, mi);
+            }
+            free(near);
+            continue;
         }
         for (size_t m = 0; m < net->nmarks; m++) {
             int mi = (int)m;

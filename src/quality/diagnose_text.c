@@ -13,6 +13,7 @@
 #include <string.h>
 
 #include "cairn/diagnose.h"
+#include "diagnose_int.h"
 
 #define MAX_WORDS 128
 
@@ -258,6 +259,127 @@ int cairn_booked_text(const cairn_obs *o, const char *key, char *buf, size_t n)
         free(line);
     }
     fclose(f);
+    if (rc)
+        buf[0] = '\0';
+    return rc;
+}
+
+/* ---- the same through a cache of whole files ---------------------------- */
+
+void cairn_text_cache_clear(cairn_text_cache *tc)
+{
+    if (!tc)
+        return;
+    for (int i = 0; i < tc->n; i++) {
+        free(tc->f[i].path);
+        free(tc->f[i].text);
+        free(tc->f[i].line);
+    }
+    memset(tc, 0, sizeof *tc);
+}
+
+/* Read path whole and index its lines (what getline would return one by
+ * one: each ends after its '\n', the last possibly without one). */
+static void load_file(const char *path, cairn_text_file *tf)
+{
+    memset(tf, 0, sizeof *tf);
+    size_t pl = strlen(path);
+    tf->path = malloc(pl + 1);
+    if (!tf->path)
+        return;
+    memcpy(tf->path, path, pl + 1);
+    FILE *f = fopen(path, "rb");
+    if (!f)
+        return;
+    char *t = NULL;
+    size_t len = 0;
+    int bad = read_all(f, &t, &len);
+    fclose(f);
+    if (bad) {
+        free(t);
+        return;
+    }
+    /* XML or field book, decided as cairn_booked_text does (first 4096 bytes) */
+    size_t hn = len < 4096 ? len : 4096;
+    size_t h = (hn >= 3 && !memcmp(t, "\xef\xbb\xbf", 3)) ? 3 : 0;
+    tf->bom = h;
+    while (h < hn && is_blank(t[h]))
+        h++;
+    tf->xml = h < hn && t[h] == '<';
+    if (!tf->xml) {
+        size_t nl = 0;
+        for (const char *q = t; len && (q = memchr(q, '\n', len - (size_t)(q - t))); q++)
+            nl++;
+        tf->line = malloc((nl + 1) * sizeof *tf->line);
+        if (!tf->line) {
+            free(t);
+            return;
+        }
+        size_t k = 0, i = 0;
+        while (i < len) {
+            tf->line[k++] = i;
+            const char *q = memchr(t + i, '\n', len - i);
+            i = q ? (size_t)(q - t) + 1 : len;
+        }
+        tf->nline = k;
+    }
+    tf->text = t;
+    tf->len = len;
+}
+
+static const cairn_text_file *cached_file(cairn_text_cache *tc, const char *path)
+{
+    for (int i = 0; i < tc->n; i++)
+        if (!strcmp(tc->f[i].path ? tc->f[i].path : "", path))
+            return tc->f[i].path ? &tc->f[i] : NULL;
+    int slot;
+    if (tc->n < CAIRN_TEXT_CACHE_FILES) {
+        slot = tc->n++;
+    } else {
+        slot = tc->next;
+        tc->next = (tc->next + 1) % CAIRN_TEXT_CACHE_FILES;
+        free(tc->f[slot].path);
+        free(tc->f[slot].text);
+        free(tc->f[slot].line);
+    }
+    load_file(path, &tc->f[slot]);
+    return tc->f[slot].path ? &tc->f[slot] : NULL;
+}
+
+int cairn_booked_text_cached(const cairn_obs *o, const char *key, char *buf, size_t n,
+                             cairn_text_cache *tc)
+{
+    if (!tc)
+        return cairn_booked_text(o, key, buf, n);
+    if (!buf || n == 0)
+        return -1;
+    buf[0] = '\0';
+    if (!o || !o->src.file || o->src.line <= 0)
+        return -1;
+    if (!key)
+        key = default_key(o->kind);
+    const cairn_text_file *tf = cached_file(tc, o->src.file);
+    if (!tf)   /* out of memory for the path: read afresh */
+        return cairn_booked_text(o, key, buf, n);
+    if (!tf->text)
+        return -1;
+    int rc = -1;
+    if (tf->xml) {
+        size_t off = offset_of(tf->text + tf->bom, tf->len - tf->bom, o->src.line, o->src.col);
+        rc = from_xml(tf->text + tf->bom, tf->len - tf->bom, off, key, buf, n);
+    } else if ((size_t)o->src.line <= tf->nline) {
+        size_t a = tf->line[o->src.line - 1];
+        size_t b = (size_t)o->src.line < tf->nline ? tf->line[o->src.line] : tf->len;
+        const char *s = tf->text + a;
+        size_t len = b - a;
+        if (o->src.line == 1 && len >= 3 && !memcmp(s, "\xef\xbb\xbf", 3)) {
+            s += 3;
+            len -= 3;
+        }
+        while (len && (s[len - 1] == '\n' || s[len - 1] == '\r'))
+            len--;
+        rc = from_fieldbook_line(o, key, s, len, buf, n);
+    }
     if (rc)
         buf[0] = '\0';
     return rc;

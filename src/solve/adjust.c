@@ -233,6 +233,16 @@ const cholmod_sparse *cairn_adjustment_normal(const cairn_adjustment *adj)
     return adj && adj->solver && adj->solver->started ? adj->solver->N : NULL;
 }
 
+cholmod_factor *cairn_adjustment_factor_rw(cairn_adjustment *adj)
+{
+    return adj && adj->solver && adj->solver->started ? adj->solver->L : NULL;
+}
+
+cholmod_sparse *cairn_adjustment_normal_rw(cairn_adjustment *adj)
+{
+    return adj && adj->solver && adj->solver->started ? adj->solver->N : NULL;
+}
+
 cholmod_common *cairn_adjustment_common(cairn_adjustment *adj)
 {
     return adj && adj->solver && adj->solver->started ? &adj->solver->cc : NULL;

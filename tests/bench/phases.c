@@ -84,7 +84,7 @@ int main(int argc, char **argv)
     double b1 = now();
     cholmod_factorize(N, L, &cc);
     double b2 = now();
-    double lnz = cc.lnz;
+    double lnz = cc.lnz, flops = cc.fl;
     double bare_mb = (double)cc.memory_usage / 1048576.0;
     cholmod_free_factor(&L, &cc);
     cholmod_free_sparse(&N, &cc);
@@ -110,6 +110,12 @@ int main(int argc, char **argv)
            st.pattern, st.analyse, st.assemble, st.factorise, st.nfactorise, st.solve,
            q1 - q0, an->selinv_seconds, q2 - q1, total, bare, b1 - b0, b2 - b1,
            total / bare, (double)ru.ru_maxrss / 1024.0, bare_mb);
+    /* snooping counters, for profiling: stderr, outside the table */
+    fprintf(stderr, "phases: %zu marks: %d snooping rounds, %zu rejections, %d "
+            "re-adjustment iterations, %d factorisations in the analysis; "
+            "factorisation %.3g flop\n",
+            net->nmarks, an->snoop_rounds, an->nrejections, an->snoop_iterations,
+            an->snoop_factorisations, flops);
     cairn_analysis_free(&an);
     cairn_adjustment_free(&adj);
     cairn_problem_free(&prob);

@@ -1,0 +1,21 @@
+/* Fast number formatting for the result writers (src/output/fmt.c).
+ * Private to src/output; not API. */
+#ifndef CAIRN_OUTPUT_FMT_H
+#define CAIRN_OUTPUT_FMT_H
+
+#include <stddef.h>
+
+/* The text snprintf(buf, n, "%.*f", dec, x) writes, byte for byte, for
+ * finite x and 0 <= dec <= 17 (other cases go to snprintf itself).
+ * Returns the length, as snprintf does. */
+int cairn_fmt_fixed(char *buf, size_t n, double x, int dec);
+
+/* The text snprintf(buf, n, "%.*g", prec, x) writes, byte for byte, for
+ * 1 <= prec <= 17 (other cases go to snprintf itself). Returns the
+ * length. */
+int cairn_fmt_general(char *buf, size_t n, double x, int prec);
+
+/* snprintf(buf, n, "%s:%d", file, line), byte for byte. */
+int cairn_fmt_file_line(char *buf, size_t n, const char *file, int line);
+
+#endif
