@@ -386,6 +386,22 @@ static void sd_td(html *h, const cairn_report_mark *m, unsigned c, double sd)
         tdn(h, cairn_rpt_len(h->r, sd, 4, b, sizeof b), sd);
 }
 
+/* A browser opens a page of a few megabytes; a national network's tables
+ * have 10^5..10^6 rows. Above this many rows a table shows its first rows
+ * and says where the rest are (observations.csv, marks.csv, results.xml,
+ * report.txt hold them all). */
+#define HTML_TABLE_MAX 5000
+
+static size_t table_rows(html *h, size_t n, const char *what, const char *where)
+{
+    if (n <= HTML_TABLE_MAX)
+        return n;
+    fprintf(h->f, "<p class=\"note warn\">This network has %zu %s: the table shows the "
+            "first %d; all of them are in %s and report.txt.</p>\n", n, what,
+            HTML_TABLE_MAX, where);
+    return HTML_TABLE_MAX;
+}
+
 static void marks(html *h)
 {
     const cairn_report *r = h->r;
@@ -409,8 +425,9 @@ static void marks(html *h)
     const char *const cols[] = {"mark", "role", c[0], c[1], c[2], "sd e", "sd n", "sd h",
                                 c[3], c[4], "azimuth"};
     fputs("<div class=\"cn-wide\">", h->f);
+    size_t nshow = table_rows(h, r->nmarks, "marks", "marks.csv, results.xml");
     thead(h, "cn-sort cn-marks", cols, 11);
-    for (size_t i = 0; i < r->nmarks; i++) {
+    for (size_t i = 0; i < nshow; i++) {
         const cairn_report_mark *m = &r->marks[i];
         fprintf(h->f, "<tr class=\"role-%s\">", m->role == CAIRN_REPORT_HELD ? "held" :
                 m->role == CAIRN_REPORT_WEIGHTED ? "weighted" :
@@ -521,8 +538,10 @@ static void all_obs(html *h)
                                        "adjusted", "residual", "sd", "r", "w", "MDB",
                                        "status", "source"};
     fputs("<div class=\"cn-wide\">", h->f);
+    size_t nshow = table_rows(h, r->nobs, "observations (every flagged or rejected one is "
+                              "listed in its own section)", "observations.csv, results.xml");
     thead(h, "cn-sort cn-obs", cols, 14);
-    for (size_t i = 0; i < r->nobs; i++)
+    for (size_t i = 0; i < nshow; i++)
         obs_row(h, &r->obs[i], 1);
     fputs("</tbody></table></div>\n</div>\n", h->f);
 }
@@ -592,8 +611,9 @@ static void pairs(html *h)
     snprintf(c[2], 48, "minor (%s)", lu);
     snprintf(c[3], 48, "allowed (%s)", lu);
     const char *const cols[] = {"from", "to", c[0], c[1], c[2], "azimuth", c[3], "result"};
+    size_t nshow = table_rows(h, r->npairs, "connected pairs", "results.xml");
     thead(h, "cn-sort cn-pairs", cols, 8);
-    for (size_t i = 0; i < r->npairs; i++) {
+    for (size_t i = 0; i < nshow; i++) {
         const cairn_report_pair *p = &r->pairs[i];
         fputs("<tr>", h->f);
         td(h, cairn_rpt_id(r, p->from));
