@@ -203,5 +203,23 @@ grep -q "a/../b/levels.cfb  \[path contains '..'\]" "$tmp/dd/out/report.txt" &&
     ok "an input path with '..' is marked in the run section and the caution" ||
     bad "the '..' input path is not marked in report.txt"
 
+# ---- a large network: the HTML tables thin themselves ------------------------
+# 800 marks of the bench generator give about 11 000 observations, more than
+# the 5000 rows an HTML table shows (report_html.c).
+if ${CC:-cc} -std=c11 -O2 -o "$tmp/gen" tests/bench/gen.c -lm 2>/dev/null &&
+    "$tmp/gen" --kind plane --marks 800 --seed 3 -o "$tmp/big.cfb" 2>/dev/null; then
+    "$CAIRN" adjust "$tmp/big.cfb" -o "$tmp/big" --format html,csv --snoop off --quiet 2>/dev/null
+    nobs=$(($(wc -l <"$tmp/big/observations.csv") - 1))
+    rows=$(grep -o '<tr class="st-[a-z]*"' "$tmp/big/report.html" | wc -l)
+    if [ "$nobs" -gt 5000 ] && grep -q "has $nobs observations .*the table shows the first 5000" \
+        "$tmp/big/report.html"; then
+        ok "report.html: $nobs observations, the table says it shows the first 5000 ($rows status rows in all)"
+    else
+        bad "report.html of $nobs observations does not thin its table"
+    fi
+else
+    bad "cannot build or run the bench generator for the large-network report test"
+fi
+
 [ $fail -eq 0 ] && echo "reports: all checks passed"
 exit $fail
