@@ -17,23 +17,6 @@
 #define RATIO_DEC 8
 #define W_DEC 7
 
-/* Fixed-decimal number, empty for NAN, and never "-0.000000". */
-static const char *num(char *buf, size_t n, double x, int dec)
-{
-    if (!isfinite(x)) {
-        buf[0] = 0;
-        return buf;
-    }
-    cairn_fmt_fixed(buf, n, x, dec);   /* = snprintf "%.*f", faster */
-    if (buf[0] == '-') {
-        const char *p = buf + 1;
-        while (*p == '0' || *p == '.')
-            p++;
-        if (!*p)
-            memmove(buf, buf + 1, strlen(buf));
-    }
-    return buf;
-}
 
 /* k cells, each after a comma (fputs: no format to parse per number). */
 static void cells(FILE *f, int k, const char *c0, const char *c1, const char *c2,
@@ -52,21 +35,6 @@ static double at(const double *a, size_t i)
     return a ? a[i] : NAN;
 }
 
-/* A CSV field (RFC 4180): quoted when it holds a comma, quote or newline. */
-static void field(FILE *f, const char *s)
-{
-    if (!strpbrk(s, ",\"\r\n")) {
-        fputs(s, f);
-        return;
-    }
-    fputc('"', f);
-    for (; *s; s++) {
-        if (*s == '"')
-            fputc('"', f);
-        fputc(*s, f);
-    }
-    fputc('"', f);
-}
 
 static const char *role_name(cairn_role r)
 {
@@ -92,7 +60,7 @@ int cairn_write_marks_csv(FILE *f, const cairn_adjustment *adj,
         unsigned t = adj->in_adj[m];
         if (!t)
             continue;
-        field(f, net->marks[m].id);
+        cairn_fmt_csv_field(f, net->marks[m].id);
         double az = at(q->major_azimuth, m) * deg;
         if (isfinite(az)) {
             az = fmod(az, 180.0);
@@ -102,15 +70,15 @@ int cairn_write_marks_csv(FILE *f, const cairn_adjustment *adj,
         fputc(',', f);
         fputs(role_name(adj->role[m]), f);
         cells(f, 9,
-              num(b[0], 64, (t & CAIRN_E) ? adj->e[m] / lf : NAN, LEN_DEC),
-              num(b[1], 64, (t & CAIRN_N) ? adj->n[m] / lf : NAN, LEN_DEC),
-              num(b[2], 64, (t & CAIRN_H) ? adj->h[m] / lf : NAN, LEN_DEC),
-              num(b[3], 64, (t & CAIRN_E) ? at(q->sd_e, m) / lf : NAN, LEN_DEC),
-              num(b[4], 64, (t & CAIRN_N) ? at(q->sd_n, m) / lf : NAN, LEN_DEC),
-              num(b[5], 64, (t & CAIRN_H) ? at(q->sd_h, m) / lf : NAN, LEN_DEC),
-              num(b[6], 64, (t & CAIRN_E) ? at(q->major, m) / lf : NAN, LEN_DEC),
-              num(b[7], 64, (t & CAIRN_E) ? at(q->minor, m) / lf : NAN, LEN_DEC),
-              num(b[8], 64, (t & CAIRN_E) ? az : NAN, DEG_DEC), "");
+              cairn_fmt_csv_num(b[0], 64, (t & CAIRN_E) ? adj->e[m] / lf : NAN, LEN_DEC),
+              cairn_fmt_csv_num(b[1], 64, (t & CAIRN_N) ? adj->n[m] / lf : NAN, LEN_DEC),
+              cairn_fmt_csv_num(b[2], 64, (t & CAIRN_H) ? adj->h[m] / lf : NAN, LEN_DEC),
+              cairn_fmt_csv_num(b[3], 64, (t & CAIRN_E) ? at(q->sd_e, m) / lf : NAN, LEN_DEC),
+              cairn_fmt_csv_num(b[4], 64, (t & CAIRN_N) ? at(q->sd_n, m) / lf : NAN, LEN_DEC),
+              cairn_fmt_csv_num(b[5], 64, (t & CAIRN_H) ? at(q->sd_h, m) / lf : NAN, LEN_DEC),
+              cairn_fmt_csv_num(b[6], 64, (t & CAIRN_E) ? at(q->major, m) / lf : NAN, LEN_DEC),
+              cairn_fmt_csv_num(b[7], 64, (t & CAIRN_E) ? at(q->minor, m) / lf : NAN, LEN_DEC),
+              cairn_fmt_csv_num(b[8], 64, (t & CAIRN_E) ? az : NAN, DEG_DEC), "");
         fputc('\n', f);
     }
     return ferror(f) ? -1 : 0;
@@ -130,7 +98,7 @@ static void mark_field(FILE *f, const cairn_net *net, int m)
 {
     fputc(',', f);
     if (m >= 0 && (size_t)m < net->nmarks)
-        field(f, net->marks[m].id);
+        cairn_fmt_csv_field(f, net->marks[m].id);
 }
 
 int cairn_write_observations_csv(FILE *f, const cairn_adjustment *adj,
@@ -163,10 +131,10 @@ int cairn_write_observations_csv(FILE *f, const cairn_adjustment *adj,
             mark_field(f, net, o->at);
             mark_field(f, net, o->from);
             mark_field(f, net, o->to);
-            cells(f, 7, num(b[0], 64, obs, dec), num(b[1], 64, adjd, dec),
-                  num(b[2], 64, res, SEC_DEC), num(b[3], 64, sd, SEC_DEC),
-                  num(b[4], 64, at(q->redundancy, i), RATIO_DEC),
-                  num(b[5], 64, at(q->w, i), W_DEC), num(b[6], 64, mdb, SEC_DEC), "", "",
+            cells(f, 7, cairn_fmt_csv_num(b[0], 64, obs, dec), cairn_fmt_csv_num(b[1], 64, adjd, dec),
+                  cairn_fmt_csv_num(b[2], 64, res, SEC_DEC), cairn_fmt_csv_num(b[3], 64, sd, SEC_DEC),
+                  cairn_fmt_csv_num(b[4], 64, at(q->redundancy, i), RATIO_DEC),
+                  cairn_fmt_csv_num(b[5], 64, at(q->w, i), W_DEC), cairn_fmt_csv_num(b[6], 64, mdb, SEC_DEC), "", "",
                   "");
         } else {
             obs = o->value / lf;
@@ -178,10 +146,10 @@ int cairn_write_observations_csv(FILE *f, const cairn_adjustment *adj,
             mark_field(f, net, o->at);
             mark_field(f, net, o->from);
             mark_field(f, net, o->to);
-            cells(f, 7, num(b[0], 64, obs, LEN_DEC), num(b[1], 64, adjd, LEN_DEC),
-                  num(b[2], 64, res, LEN_DEC), num(b[3], 64, sd, LEN_DEC),
-                  num(b[4], 64, at(q->redundancy, i), RATIO_DEC),
-                  num(b[5], 64, at(q->w, i), W_DEC), num(b[6], 64, mdb, LEN_DEC), "", "",
+            cells(f, 7, cairn_fmt_csv_num(b[0], 64, obs, LEN_DEC), cairn_fmt_csv_num(b[1], 64, adjd, LEN_DEC),
+                  cairn_fmt_csv_num(b[2], 64, res, LEN_DEC), cairn_fmt_csv_num(b[3], 64, sd, LEN_DEC),
+                  cairn_fmt_csv_num(b[4], 64, at(q->redundancy, i), RATIO_DEC),
+                  cairn_fmt_csv_num(b[5], 64, at(q->w, i), W_DEC), cairn_fmt_csv_num(b[6], 64, mdb, LEN_DEC), "", "",
                   "");
         }
         fputc(',', f);
@@ -193,7 +161,7 @@ int cairn_write_observations_csv(FILE *f, const cairn_adjustment *adj,
             snprintf(src, sizeof src, "%s", o->src.file);
         else
             src[0] = 0;
-        field(f, src);
+        cairn_fmt_csv_field(f, src);
         fputc('\n', f);
     }
     return ferror(f) ? -1 : 0;

@@ -253,3 +253,35 @@ int cairn_fmt_file_line(char *buf, size_t n, const char *file, int line)
     memcpy(buf + lf + 1, d, (size_t)nd + 1);
     return (int)(lf + 1 + (size_t)nd);
 }
+
+const char *cairn_fmt_csv_num(char *buf, size_t n, double x, int dec)
+{
+    if (!isfinite(x)) {
+        buf[0] = 0;
+        return buf;
+    }
+    cairn_fmt_fixed(buf, n, x, dec);
+    if (buf[0] == '-') {
+        const char *p = buf + 1;
+        while (*p == '0' || *p == '.')
+            p++;
+        if (!*p)
+            memmove(buf, buf + 1, strlen(buf));
+    }
+    return buf;
+}
+
+void cairn_fmt_csv_field(FILE *f, const char *s)
+{
+    if (!strpbrk(s, ",\"\r\n")) {
+        fputs(s, f);
+        return;
+    }
+    fputc('"', f);
+    for (; *s; s++) {
+        if (*s == '"')
+            fputc('"', f);
+        fputc(*s, f);
+    }
+    fputc('"', f);
+}

@@ -18,4 +18,13 @@ int cairn_fmt_general(char *buf, size_t n, double x, int prec);
 /* snprintf(buf, n, "%s:%d", file, line), byte for byte. */
 int cairn_fmt_file_line(char *buf, size_t n, const char *file, int line);
 
+/* A CSV number cell: "%.*f" of x, empty for NAN or infinity, and never a
+ * negative zero ("-0.0000000" becomes "0.0000000"). Returns buf. */
+const char *cairn_fmt_csv_num(char *buf, size_t n, double x, int dec);
+
+#include <stdio.h>
+/* A CSV field (RFC 4180): quoted when it holds a comma, quote or newline
+ * (mark ids cannot, file names can). */
+void cairn_fmt_csv_field(FILE *f, const char *s);
+
 #endif

@@ -11,45 +11,13 @@
 
 #include "cairn/misclosure.h"
 #include "cairn/output.h"
+#include "fmt.h"
 
 #define LEN_DEC 7
 #define SEC_DEC 7
 #define RATIO_DEC 4
 
-/* Fixed decimals, empty for NAN or infinity, never "-0.0000000". */
-static const char *num(char *buf, size_t n, double x, int dec)
-{
-    if (!isfinite(x)) {
-        buf[0] = 0;
-        return buf;
-    }
-    snprintf(buf, n, "%.*f", dec, x);
-    if (buf[0] == '-') {
-        const char *p = buf + 1;
-        while (*p == '0' || *p == '.')
-            p++;
-        if (!*p)
-            memmove(buf, buf + 1, strlen(buf));
-    }
-    return buf;
-}
 
-/* A CSV field (RFC 4180): quoted when it holds a comma, quote or newline.
- * Mark ids cannot, file names can. */
-static void field(FILE *f, const char *s)
-{
-    if (!strpbrk(s, ",\"\r\n")) {
-        fputs(s, f);
-        return;
-    }
-    fputc('"', f);
-    for (; *s; s++) {
-        if (*s == '"')
-            fputc('"', f);
-        fputc(*s, f);
-    }
-    fputc('"', f);
-}
 
 int cairn_write_misclosures_csv(FILE *f, const cairn_net *net,
                                 const cairn_misclosures *m)
@@ -70,16 +38,16 @@ int cairn_write_misclosures_csv(FILE *f, const cairn_net *net,
                 fputc(' ', f);
             fputs(mk >= 0 && (size_t)mk < net->nmarks ? net->marks[mk].id : "?", f);
         }
-        fprintf(f, ",%s,%s,%s,%s,%s,", num(b[0], sizeof b[0], it->misclosure * k, dec),
-                num(b[1], sizeof b[1], it->length / lf, LEN_DEC),
-                num(b[2], sizeof b[2], it->expected_sd * k, dec),
-                num(b[3], sizeof b[3], it->ratio, RATIO_DEC), it->fail ? "fail" : "ok");
+        fprintf(f, ",%s,%s,%s,%s,%s,", cairn_fmt_csv_num(b[0], sizeof b[0], it->misclosure * k, dec),
+                cairn_fmt_csv_num(b[1], sizeof b[1], it->length / lf, LEN_DEC),
+                cairn_fmt_csv_num(b[2], sizeof b[2], it->expected_sd * k, dec),
+                cairn_fmt_csv_num(b[3], sizeof b[3], it->ratio, RATIO_DEC), it->fail ? "fail" : "ok");
         char src[CAIRN_PATH_MAX + 32];
         if (it->src.file && it->src.line > 0)
             snprintf(src, sizeof src, "%s:%d", it->src.file, it->src.line);
         else
             src[0] = 0;
-        field(f, src);
+        cairn_fmt_csv_field(f, src);
         fputc('\n', f);
     }
     return ferror(f) ? -1 : 0;
