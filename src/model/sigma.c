@@ -81,27 +81,37 @@ static double distance_sigma(const cairn_net *net, const cairn_obs *o, double s)
     return sqrt(in->dist_a * in->dist_a + b * b + 2.0 * c * c);
 }
 
+/* One pointing or reading σ_r plus a pair of equal error sources e (the
+ * centring, or the measured heights, of instrument and target), each
+ * displacing the line by e over the plane length d: σ² = σ_r² + 2e²/d². */
+static double reading_sigma(const cairn_problem *p, const cairn_obs *o, const cairn_state *x,
+                            unsigned need, int zenith)
+{
+    if (o->sd.has & CAIRN_SD_ANGLE)
+        return o->sd.angle;
+    const cairn_instrument *in = instrument_of(p->net, o, CAIRN_INST_TOTAL_STATION);
+    if (!in || !(in->set & need))
+        return -1.0;
+    double r = zenith ? in->zenith : in->direction;
+    double e = zenith ? inst_height(in) : inst_centring(in);
+    double v = r * r;
+    if (e > 0.0) {
+        cairn_plane_geom g;
+        cairn_geom_plane(x, o->at, o->to, &g);
+        if (g.d2 == 0.0)
+            return -1.0;
+        v += 2.0 * e * e / g.d2;
+    }
+    return sqrt(v);
+}
+
 /* Direction σ² = σ_dir² + 2c²/d²: one pointing plus centring of instrument
  * and target, each displacing the line sideways by c over the length d.
  * [GW-EP] */
 static double direction_sigma(const cairn_problem *p, const cairn_obs *o,
                               const cairn_state *x)
 {
-    if (o->sd.has & CAIRN_SD_ANGLE)
-        return o->sd.angle;
-    const cairn_instrument *in = instrument_of(p->net, o, CAIRN_INST_TOTAL_STATION);
-    if (!in || !(in->set & CAIRN_INST_DIRECTION))
-        return -1.0;
-    double c = inst_centring(in);
-    double v = in->direction * in->direction;
-    if (c > 0.0) {
-        cairn_plane_geom g;
-        cairn_geom_plane(x, o->at, o->to, &g);
-        if (g.d2 == 0.0)
-            return -1.0;
-        v += 2.0 * c * c / g.d2;
-    }
-    return sqrt(v);
+    return reading_sigma(p, o, x, CAIRN_INST_DIRECTION, 0);
 }
 
 /* Angle σ² = 2σ_dir² + c²(1/d₁² + 1/d₂²) + c²·d₃²/(d₁²d₂²): two pointings,
@@ -137,21 +147,7 @@ static double angle_sigma(const cairn_problem *p, const cairn_obs *o,
 static double zenith_sigma(const cairn_problem *p, const cairn_obs *o,
                            const cairn_state *x)
 {
-    if (o->sd.has & CAIRN_SD_ANGLE)
-        return o->sd.angle;
-    const cairn_instrument *in = instrument_of(p->net, o, CAIRN_INST_TOTAL_STATION);
-    if (!in || !(in->set & CAIRN_INST_ZENITH))
-        return -1.0;
-    double hs = inst_height(in);
-    double v = in->zenith * in->zenith;
-    if (hs > 0.0) {
-        cairn_plane_geom g;
-        cairn_geom_plane(x, o->at, o->to, &g);
-        if (g.d2 == 0.0)
-            return -1.0;
-        v += 2.0 * hs * hs / g.d2;
-    }
-    return sqrt(v);
+    return reading_sigma(p, o, x, CAIRN_INST_ZENITH, 1);
 }
 
 /* Dimension-1 height difference from a sight, Δh = s·cos z + ... :
