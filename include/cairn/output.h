@@ -104,9 +104,10 @@ enum {
     CAIRN_FORMAT_XML = 8
 };
 
-/** Write the result files asked for in `formats` (CAIRN_FORMAT_* bits)
- *  into dir as one atomic set: marks.csv and observations.csv (CSV),
- *  results.xml (XML). TXT and HTML are not written yet (a later issue).
+/** Write the machine-readable result files asked for in `formats`
+ *  (CAIRN_FORMAT_CSV: marks.csv and observations.csv; CAIRN_FORMAT_XML:
+ *  results.xml, without diagnoses) into dir as one atomic set; the TXT and
+ *  HTML bits are ignored here (cairn_write_result_set writes every format).
  *  Returns 0, or -1 with a message. */
 int cairn_write_results(const char *dir, const cairn_adjustment *adj,
                         const cairn_analysis *an, unsigned formats,
