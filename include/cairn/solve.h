@@ -57,12 +57,24 @@ typedef struct {
     double mu;            /**< Marquardt damping used (0 = undamped) */
 } cairn_iter_log;
 
+/** The convergence test of DEVELOPERS.md: corrections of lengths below
+ *  *plen = 0.01 × min_length_sigma (at least 1e-6 m; exactly 1e-6 m when
+ *  no observation is a length, e.g. a network of directions only) and of
+ *  orientations below *pang = 0.01 × min_angle_sigma (no limit when no
+ *  observation is an angle). Sigmas in metres and radians; pass INFINITY
+ *  for a kind that does not occur. */
+void cairn_convergence_thresholds(double min_length_sigma, double min_angle_sigma,
+                                  double *plen, double *pang);
+
 /** Options of cairn_adjust; cairn_adjust_options_default sets the defaults
  *  given with each field. */
 typedef struct {
     int max_iterations;   /**< 0 (default): the net's max-iterations option */
     int ordering;         /**< enum cairn_ordering; default CAIRN_ORDER_AUTO */
     int metis_threshold;  /**< unknowns above which AUTO uses METIS; default 20000 */
+    int max_halvings;     /**< halvings of a Gauss–Newton step tried (Armijo
+                               backtracking) before Levenberg–Marquardt damping;
+                               default 10; 0: damping as soon as the full step fails */
     int refactor_final;   /**< 1 (default): re-linearise and factorise once more at
                                the converged coordinates, so that the factor, the σ
                                and the design rows all belong to the solution */

@@ -52,8 +52,6 @@
 
 #include "analysis_int.h"
 
-#define CONV_FRACTION 0.01     /* DEVELOPERS.md "Convergence" */
-#define CONV_LENGTH_FLOOR 1e-6 /* m, as src/solve/iterate.c */
 /* Refinement sweeps of a chord or Woodbury step (cairn_qa_engine_reject_many):
  * each multiplies the step's error by the relative difference between
  * the operator solved with and N' (1e-5 or less), so two leave it at
@@ -593,10 +591,8 @@ int cairn_qa_engine_reject_many(cairn_qa_engine *eg, const size_t *idx, size_t k
             goto done;
         if (eg->n == 0)
             break;
-        double thr_len = CONV_FRACTION * minlen;
-        if (!(thr_len > CONV_LENGTH_FLOOR))
-            thr_len = CONV_LENGTH_FLOOR;
-        double thr_ang = isfinite(minang) ? CONV_FRACTION * minang : INFINITY;
+        double thr_len, thr_ang;
+        cairn_convergence_thresholds(minlen, minang, &thr_len, &thr_ang);
         if (ml < thr_len && ma < thr_ang)
             break;
         if (it >= maxit) {
@@ -699,10 +695,8 @@ int cairn_qa_engine_reject(cairn_qa_engine *eg, size_t i, cairn_error *err)
     for (int it = 0;; it++) {
         if ((rc = linearise(eg, &vtpv, &minlen, &minang, err)))
             goto done;
-        double thr_len = CONV_FRACTION * minlen;
-        if (!(thr_len > CONV_LENGTH_FLOOR))
-            thr_len = CONV_LENGTH_FLOOR;
-        double thr_ang = isfinite(minang) ? CONV_FRACTION * minang : INFINITY;
+        double thr_len, thr_ang;
+        cairn_convergence_thresholds(minlen, minang, &thr_len, &thr_ang);
         if (ml < thr_len && ma < thr_ang)
             break;
         if (it >= maxit) {

@@ -13,11 +13,25 @@
 #include "solve_int.h"
 
 #define ARMIJO_C1 1e-4
-#define MAX_HALVINGS 10
 #define LM_MU0 1e-3
 #define LM_TRIES 10
 #define CONV_FRACTION 0.01   /* DEVELOPERS.md: 0.01 × the smallest σ */
 #define CONV_LENGTH_FLOOR 1e-6 /* m */
+
+void cairn_convergence_thresholds(double min_length_sigma, double min_angle_sigma,
+                                  double *plen, double *pang)
+{
+    /* Without any length observation the length limit must not become
+     * infinite: coordinates of a direction-only network would then count
+     * as converged whenever the orientations stop moving (regression,
+     * 2026-12-01: an intersection from a start below its base line
+     * "converged" 1.3 km from the solution). */
+    double len = CONV_FRACTION * min_length_sigma;
+    if (!(len > CONV_LENGTH_FLOOR) || !isfinite(len))
+        len = CONV_LENGTH_FLOOR;
+    *plen = len;
+    *pang = isfinite(min_angle_sigma) ? CONV_FRACTION * min_angle_sigma : INFINITY;
+}
 
 int cairn_xstate_init(cairn_xstate *x, size_t nmarks, size_t nsetups)
 {
@@ -340,10 +354,8 @@ int cairn_solve_iterate(cairn_adjustment *adj, const cairn_adjust_options *opt,
             (rc = cairn_solver_solve(s, dx, err)))
             goto done;
         measure(adj, dx, 1.0, lg);
-        double thr_len = CONV_FRACTION * minlen;
-        if (!(thr_len > CONV_LENGTH_FLOOR))
-            thr_len = CONV_LENGTH_FLOOR;
-        double thr_ang = isfinite(minang) ? CONV_FRACTION * minang : INFINITY;
+        double thr_len, thr_ang;
+        cairn_convergence_thresholds(minlen, minang, &thr_len, &thr_ang);
         adj->iterations = it;
         if (lg->max_length < thr_len && lg->max_angle < thr_ang) {
             /* converged: the full Gauss–Newton step is applied and no
@@ -365,7 +377,7 @@ int cairn_solve_iterate(cairn_adjustment *adj, const cairn_adjust_options *opt,
             gtd -= 2.0 * b[j] * dx[j];
         double t = 1.0, ft = INFINITY;
         int accepted = 0;
-        for (int k = 0; k <= MAX_HALVINGS; k++, t *= 0.5) {
+        for (int k = 0; k <= opt->max_halvings; k++, t *= 0.5) {
             apply_step(adj, x, dx, t, &xt);
             ft = vtpv_at(adj, &xt, w);
             if (ft <= f0 + ARMIJO_C1 * t * gtd) {

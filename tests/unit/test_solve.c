@@ -557,6 +557,56 @@ START_TEST(far_start_metis)
 }
 END_TEST
 
+/* An intersection of P from held A and B by directions only (dof 0): the
+ * exact solution is P = (1050, 2080) by construction. From starts on the
+ * far side of the base line, (i) with the default backtracking, and
+ * (ii) with no backtracking, so that Levenberg–Marquardt damping must take
+ * over (iterate.c), the adjustment must reach it. (i) is also the
+ * regression test of 2026-12-01: with no length observation the length
+ * convergence limit was infinite and P "converged" 1.3 km away. */
+static cairn_net *intersection_net(double e0, double n0, int *pp)
+{
+    cairn_net *net = cairn_net_new();
+    int a = mark(net, "A", 1000, 2000, 0, CAIRN_E | CAIRN_N, CAIRN_E | CAIRN_N);
+    int b = mark(net, "B", 1100, 2000, 0, CAIRN_E | CAIRN_N, CAIRN_E | CAIRN_N);
+    *pp = mark(net, "P", e0, n0, 0, CAIRN_E | CAIRN_N, 0);
+    int s1 = setup(net, a, 5);
+    direction(net, s1, b, cairn_wrap_2pi(atan2(100.0, 0.0) - 0.3), 1e-5, 6);
+    direction(net, s1, *pp, cairn_wrap_2pi(atan2(50.0, 80.0) - 0.3), 1e-5, 7);
+    int s2 = setup(net, b, 8);
+    direction(net, s2, a, cairn_wrap_2pi(atan2(-100.0, 0.0) - 1.0), 1e-5, 9);
+    direction(net, s2, *pp, cairn_wrap_2pi(atan2(-50.0, 80.0) - 1.0), 1e-5, 10);
+    return net;
+}
+
+START_TEST(levenberg_marquardt)
+{
+    static const double starts[][2] = {{1050, 1900}, {1200, 1990}, {5000, -3000}};
+    for (int halvings = 10; halvings >= 0; halvings -= 10) {
+        int damped = 0;
+        for (size_t k = 0; k < sizeof starts / sizeof starts[0]; k++) {
+            int p;
+            cairn_net *net = intersection_net(starts[k][0], starts[k][1], &p);
+            cairn_adjust_options opt;
+            cairn_adjust_options_default(&opt);
+            opt.max_halvings = halvings;
+            opt.max_iterations = 100;
+            cairn_problem *pr = NULL;
+            cairn_adjustment *adj = NULL;
+            char msg[2000];
+            ck_assert_msg(run_opt(net, 0, &opt, &pr, &adj, msg, sizeof msg) == 0, "%s", msg);
+            ck_assert_double_eq_tol(adj->e[p], 1050.0, 1e-7);
+            ck_assert_double_eq_tol(adj->n[p], 2080.0, 1e-7);
+            for (int i = 0; i < adj->iterations; i++)
+                damped += adj->log[i].mu > 0;
+            done(&net, &pr, &adj);
+        }
+        if (halvings == 0)
+            ck_assert_msg(damped > 0, "no damped step without backtracking");
+    }
+}
+END_TEST
+
 static Suite *solve_suite(void)
 {
     Suite *s = suite_create("solve");
@@ -573,6 +623,7 @@ static Suite *solve_suite(void)
     tcase_add_test(tc, weighted_control);
     tcase_add_test(tc, csv_rows);
     tcase_add_test(tc, far_start_metis);
+    tcase_add_test(tc, levenberg_marquardt);
     suite_add_tcase(s, tc);
     return s;
 }
