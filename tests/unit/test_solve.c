@@ -274,24 +274,33 @@ START_TEST(trilateration_optimal)
 }
 END_TEST
 
+/* Held A (1000, 2000) and B (1100, 2000) observe P = (1050, 2080) by
+ * directions, setup orientations 0.3 and 1.0 rad (exact, sd 1e-5 rad);
+ * P starts at (e0, n0). */
+static cairn_net *intersection_net(double e0, double n0, int *pp)
+{
+    cairn_net *net = cairn_net_new();
+    int a = mark(net, "A", 1000, 2000, 0, CAIRN_E | CAIRN_N, CAIRN_E | CAIRN_N);
+    int b = mark(net, "B", 1100, 2000, 0, CAIRN_E | CAIRN_N, CAIRN_E | CAIRN_N);
+    *pp = mark(net, "P", e0, n0, 0, CAIRN_E | CAIRN_N, 0);
+    int s1 = setup(net, a, 5);
+    direction(net, s1, b, cairn_wrap_2pi(atan2(100.0, 0.0) - 0.3), 1e-5, 6);
+    direction(net, s1, *pp, cairn_wrap_2pi(atan2(50.0, 80.0) - 0.3), 1e-5, 7);
+    int s2 = setup(net, b, 8);
+    direction(net, s2, a, cairn_wrap_2pi(atan2(-100.0, 0.0) - 1.0), 1e-5, 9);
+    direction(net, s2, *pp, cairn_wrap_2pi(atan2(-50.0, 80.0) - 1.0), 1e-5, 10);
+    return net;
+}
+
 /* A direction-and-distance network with two setups: orientation unknowns
  * are numbered after the marks, in setup order; exact observations from the
  * true coordinates give back the coordinates (by construction). */
 START_TEST(directions_and_orientation)
 {
-    cairn_net *net = cairn_net_new();
-    int a = mark(net, "A", 1000, 2000, 0, CAIRN_E | CAIRN_N, CAIRN_E | CAIRN_N);
-    int b = mark(net, "B", 1100, 2000, 0, CAIRN_E | CAIRN_N, CAIRN_E | CAIRN_N);
-    int p = mark(net, "P", 1050.3, 2079.6, 0, CAIRN_E | CAIRN_N, 0);
-    double tp = atan2(50.0, 80.0), tb = atan2(100.0, 0.0);
+    int p;
+    cairn_net *net = intersection_net(1050.3, 2079.6, &p);
+    int a = 0, s1 = 0, s2 = 1;
     double om = 0.3;
-    int s1 = setup(net, a, 5);
-    direction(net, s1, b, cairn_wrap_2pi(tb - om), 1e-5, 6);
-    direction(net, s1, p, cairn_wrap_2pi(tp - om), 1e-5, 7);
-    int s2 = setup(net, b, 8);
-    double tpa = atan2(-50.0, 80.0), tab = atan2(-100.0, 0.0);
-    direction(net, s2, a, cairn_wrap_2pi(tab - 1.0), 1e-5, 9);
-    direction(net, s2, p, cairn_wrap_2pi(tpa - 1.0), 1e-5, 10);
     dist(net, a, p, sqrt(50.0 * 50.0 + 80.0 * 80.0), 0.001, 11);
     cairn_problem *pr = NULL;
     cairn_adjustment *adj = NULL;
@@ -564,21 +573,6 @@ END_TEST
  * over (iterate.c), the adjustment must reach it. (i) is also the
  * regression test of 2026-12-01: with no length observation the length
  * convergence limit was infinite and P "converged" 1.3 km away. */
-static cairn_net *intersection_net(double e0, double n0, int *pp)
-{
-    cairn_net *net = cairn_net_new();
-    int a = mark(net, "A", 1000, 2000, 0, CAIRN_E | CAIRN_N, CAIRN_E | CAIRN_N);
-    int b = mark(net, "B", 1100, 2000, 0, CAIRN_E | CAIRN_N, CAIRN_E | CAIRN_N);
-    *pp = mark(net, "P", e0, n0, 0, CAIRN_E | CAIRN_N, 0);
-    int s1 = setup(net, a, 5);
-    direction(net, s1, b, cairn_wrap_2pi(atan2(100.0, 0.0) - 0.3), 1e-5, 6);
-    direction(net, s1, *pp, cairn_wrap_2pi(atan2(50.0, 80.0) - 0.3), 1e-5, 7);
-    int s2 = setup(net, b, 8);
-    direction(net, s2, a, cairn_wrap_2pi(atan2(-100.0, 0.0) - 1.0), 1e-5, 9);
-    direction(net, s2, *pp, cairn_wrap_2pi(atan2(-50.0, 80.0) - 1.0), 1e-5, 10);
-    return net;
-}
-
 START_TEST(levenberg_marquardt)
 {
     static const double starts[][2] = {{1050, 1900}, {1200, 1990}, {5000, -3000}};
