@@ -13,6 +13,9 @@ results.xml).  NAME.expected holds key=value lines (see README.md):
     azimuth.M                  azimuth of the major axis, degrees (mod 180)
     v.SEQ adj.SEQ r.SEQ        residual, adjusted value, redundancy number of
                                observations.csv row SEQ
+    w.SEQ absw.SEQ             w-test statistic of row SEQ (observations.csv
+                               w, a priori variance factor 1); absw compares
+                               |w|, for books that print the statistic unsigned
     dof s0 s0sq                degrees of freedom, a posteriori S0, S0 squared
     tolerance.KEY              allowed |difference|; looked up as
                                tolerance.<whole key>, then with the last
@@ -144,7 +147,8 @@ def posterior_s0(marks, obs, resultdir):
 MARK_COLUMNS = {"h": "h", "e": "e", "n": "n",
                 "sd.h": "sd_h", "sd.e": "sd_e", "sd.n": "sd_n",
                 "major": "major", "minor": "minor", "azimuth": "major_azimuth"}
-OBS_COLUMNS = {"v": "residual", "adj": "adjusted", "r": "redundancy"}
+OBS_COLUMNS = {"v": "residual", "adj": "adjusted", "r": "redundancy",
+               "w": "w", "absw": "w"}
 SCALED = ("sd.h", "sd.e", "sd.n", "major", "minor")
 
 
@@ -201,6 +205,8 @@ def main(argv):
                     missing = "observation seq %s not in observations.csv" % name
                 else:
                     got = num(row.get(OBS_COLUMNS[head]))
+                    if got is not None and head == "absw":
+                        got = abs(got)
             else:
                 print("error: %s:%d: unknown key %s" % (expected_path, lineno, key))
                 return 2
