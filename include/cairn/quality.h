@@ -376,6 +376,13 @@ typedef struct cairn_analysis {
 
     /* timings (time_phases), seconds; NAN when not measured */
     double selinv_seconds, factor_seconds;
+    /* where the analysis spent its wall time, seconds, always measured
+     * (make bench): every selected inverse, every numeric factorisation
+     * of the re-adjustments (assembly included), the per-observation
+     * tests of every round, the rest of the re-adjustments (linearising,
+     * solves, refinement), and precision (marks, pairs, external
+     * reliability) */
+    double t_selinv, t_factorise, t_tests, t_readjust, t_precision;
 } cairn_analysis;
 
 /** Status of cairn_analyse, beyond 0 and the solve statuses. */

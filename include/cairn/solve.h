@@ -55,6 +55,9 @@ typedef struct {
     int max_angle_setup;  /**< setup of that correction, or -1 */
     double step;          /**< step length t applied (1 = full Gauss–Newton) */
     double mu;            /**< Marquardt damping used (0 = undamped) */
+    int chord;            /**< 1: the step was solved on an earlier iteration's
+                               factor and refined to the Gauss–Newton step
+                               (no factorisation); 0: a fresh factorisation */
 } cairn_iter_log;
 
 /** The convergence test of DEVELOPERS.md: corrections of lengths below
@@ -78,6 +81,11 @@ typedef struct {
     int refactor_final;   /**< 1 (default): re-linearise and factorise once more at
                                the converged coordinates, so that the factor, the σ
                                and the design rows all belong to the solution */
+    int chord;            /**< 1 (default): after a full step, solve the next one on
+                               the factor at hand with iterative refinement against
+                               the new normal matrix, refactorising only when the
+                               refinement does not contract (DEVELOPERS.md
+                               "Chord steps"); 0: factorise every iteration */
     /** Called after each iteration when not NULL (progress display). */
     void (*progress)(const cairn_iter_log *it, void *ctx);
     void *progress_ctx;

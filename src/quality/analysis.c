@@ -230,6 +230,7 @@ static int selinv(cairn_analysis *an, const cairn_qa_engine *eg, cairn_selinv **
     double t0 = cairn_qa_now();
     int rc = cairn_selinv_compute(L, eg->cc, pZ);
     an->selinv_seconds = cairn_qa_now() - t0;
+    an->t_selinv += an->selinv_seconds;
     if (rc == CAIRN_SELINV_ENOMEM)
         return cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
                                "out of memory computing the selected inverse"),
@@ -296,8 +297,12 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
     if ((rc = cairn_qa_engine_init(&eg, adj, err)))
         goto fail;
     for (;;) {
-        if ((rc = selinv(an, &eg, &Z, err)) || (rc = test_observations(an, &eg, Z, err)))
+        if ((rc = selinv(an, &eg, &Z, err)))
             goto fail;
+        double tt = cairn_qa_now();
+        if ((rc = test_observations(an, &eg, Z, err)))
+            goto fail;
+        an->t_tests += cairn_qa_now() - tt;
         if (opt->snoop != CAIRN_SNOOP_ITERATE)
             break;
         if (an->nrejections >= an->max_rejections) {
@@ -319,14 +324,18 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
             rj->nabla = an->nabla[i];
         }
         cairn_selinv_free(&Z);
+        double tr = cairn_qa_now(), tf = eg.t_factorise;
         if ((rc = cairn_qa_engine_reject_many(&eg, pick, k, err)))
             goto fail;
+        an->t_readjust += cairn_qa_now() - tr - (eg.t_factorise - tf);
         an->snoop_rounds++;
     }
     an->snoop_iterations = eg.iterations;
     an->snoop_factorisations = eg.factorisations;
+    an->t_factorise = eg.t_factorise;
     for (size_t k = 0; k < an->nrejections; k++)
         an->nabla[an->rejections[k].obs] = an->rejections[k].nabla;
+    double tp = cairn_qa_now();
     if (Z) {
         external(an, &eg, Z);
         cairn_qa_marks(an, Z);
@@ -336,6 +345,7 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
         rc = CAIRN_SOLVE_ENOMEM;
         goto fail;
     }
+    an->t_precision = cairn_qa_now() - tp;
     if (opt->time_phases && eg.n > 0) {
         /* the bench's yardstick: one numeric factorisation of the same N */
         if ((rc = cairn_qa_engine_refactor(&eg, err)))

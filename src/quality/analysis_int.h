@@ -28,6 +28,7 @@ typedef struct {
     int iterations;         /* Gauss–Newton iterations made by the engine */
     int factorisations;
     double factor_seconds;  /* last factorisation, s */
+    double t_factorise;     /* all assemblies + factorisations, s */
 } cairn_qa_engine;
 
 /* Build rows and state from the adjustment at its solution. */

@@ -288,6 +288,7 @@ static int factorise(cairn_qa_engine *eg, cairn_error *err)
     cholmod_sparse *N = eg->N;
     if (!eg->L || !N || !cc)
         return internal(err, "the adjustment's factor was released before the analysis");
+    double ta = cairn_qa_now();
     const int *Np = N->p, *Ni = N->i;
     double *Nx = N->x;
     memset(Nx, 0, (size_t)Np[eg->n] * sizeof *Nx);
@@ -310,6 +311,7 @@ static int factorise(cairn_qa_engine *eg, cairn_error *err)
     double t0 = cairn_qa_now();
     int ok = cholmod_factorize(N, eg->L, cc);
     eg->factor_seconds = cairn_qa_now() - t0;
+    eg->t_factorise += cairn_qa_now() - ta;
     eg->factorisations++;
     if (cc->status == CHOLMOD_OUT_OF_MEMORY)
         return oom(err);

@@ -15,6 +15,7 @@ void cairn_adjust_options_default(cairn_adjust_options *opt)
     opt->metis_threshold = 20000;
     opt->refactor_final = 1;
     opt->max_halvings = 10;
+    opt->chord = 1;
 }
 
 static int alloc_arrays(cairn_adjustment *adj)

@@ -15,6 +15,11 @@
 #define ARMIJO_C1 1e-4
 #define LM_MU0 1e-3
 #define LM_TRIES 10
+/* Chord steps: two refinement sweeps, taken when the first sweep's
+ * correction is at most 1 % of the step (so the step is exact to about
+ * 1e-6 of itself; the next iteration removes even that). */
+#define CHORD_SWEEPS 2
+#define CHORD_MAX_CONTRACTION 0.01
 #define CONV_FRACTION 0.01   /* DEVELOPERS.md: 0.01 × the smallest σ */
 #define CONV_LENGTH_FLOOR 1e-6 /* m */
 
@@ -342,6 +347,8 @@ int cairn_solve_iterate(cairn_adjustment *adj, const cairn_adjust_options *opt,
         goto done;
     double mu = LM_MU0;
     int converged = 0;
+    int have_factor = 0;   /* a factor of an earlier iteration is at hand */
+    int prev_full = 0;     /* the last step was a full, undamped one */
     for (int it = 1; it <= maxit && !converged; it++) {
         cairn_iter_log *lg = &adj->log[it - 1];
         double f0, minlen, minang;
@@ -350,9 +357,24 @@ int cairn_solve_iterate(cairn_adjustment *adj, const cairn_adjust_options *opt,
             goto done;
         lg->vtpv_start = f0;
         cairn_solver_assemble(s, rows, nobs, w, v);
-        if ((rc = cairn_solver_factorise(s, 0.0, adj, err)) ||
-            (rc = cairn_solver_solve(s, dx, err)))
-            goto done;
+        /* Chord step (DEVELOPERS.md "Chord steps"): after a full step the
+         * factor at hand belongs to a point one small step away; solved on
+         * it and refined against the new N, the step is the Gauss–Newton
+         * step to rounding, without a factorisation. */
+        int chord = 0;
+        if (opt->chord && have_factor && prev_full) {
+            double contract;
+            if ((rc = cairn_solver_chord(s, CHORD_SWEEPS, dx, &contract, err)))
+                goto done;
+            chord = contract <= CHORD_MAX_CONTRACTION;
+        }
+        if (!chord) {
+            if ((rc = cairn_solver_factorise(s, 0.0, adj, err)) ||
+                (rc = cairn_solver_solve(s, dx, err)))
+                goto done;
+            have_factor = 1;
+        }
+        lg->chord = chord;
         measure(adj, dx, 1.0, lg);
         double thr_len, thr_ang;
         cairn_convergence_thresholds(minlen, minang, &thr_len, &thr_ang);
@@ -377,7 +399,24 @@ int cairn_solve_iterate(cairn_adjustment *adj, const cairn_adjust_options *opt,
             gtd -= 2.0 * b[j] * dx[j];
         double t = 1.0, ft = INFINITY;
         int accepted = 0;
-        for (int k = 0; k <= opt->max_halvings; k++, t *= 0.5) {
+        if (chord) {
+            /* a chord step is only ever taken whole; if it does not
+             * decrease vᵀPv enough, factorise here after all */
+            apply_step(adj, x, dx, 1.0, &xt);
+            ft = vtpv_at(adj, &xt, w);
+            accepted = ft <= f0 + ARMIJO_C1 * gtd;
+            if (!accepted) {
+                if ((rc = cairn_solver_factorise(s, 0.0, adj, err)) ||
+                    (rc = cairn_solver_solve(s, dx, err)))
+                    goto done;
+                lg->chord = chord = 0;
+                measure(adj, dx, 1.0, lg);
+                gtd = 0;
+                for (int j = 0; j < n; j++)
+                    gtd -= 2.0 * b[j] * dx[j];
+            }
+        }
+        for (int k = 0; !accepted && k <= opt->max_halvings; k++, t *= 0.5) {
             apply_step(adj, x, dx, t, &xt);
             ft = vtpv_at(adj, &xt, w);
             if (ft <= f0 + ARMIJO_C1 * t * gtd) {
@@ -411,6 +450,7 @@ int cairn_solve_iterate(cairn_adjustment *adj, const cairn_adjust_options *opt,
         }
         lg->step = t;
         lg->vtpv = ft;
+        prev_full = t == 1.0 && lg->mu == 0.0;
         measure(adj, dx, t, lg);
         cairn_xstate_copy(x, &xt, net->nmarks, net->nsetups);
         if (opt->progress)

@@ -85,6 +85,14 @@ int cairn_solver_factorise(cairn_solver *s, double mu, const cairn_adjustment *a
                            cairn_error *err);
 /* Solve the last factorisation for the current b into dx (n values). */
 int cairn_solver_solve(cairn_solver *s, double *dx, cairn_error *err);
+/* A chord step: solve N dx = b for the current N and b (assembled since
+ * the last factorisation) on the factor at hand, then `sweeps` sweeps of
+ * iterative refinement dx += F⁻¹(b − N dx). *pcontract gets the size of
+ * the first refinement correction relative to the step (max norms), an
+ * estimate of ‖I − F⁻¹N‖; the error left after the sweeps is about its
+ * power sweeps + 1. Returns 0 or a status. */
+int cairn_solver_chord(cairn_solver *s, int sweeps, double *dx, double *pcontract,
+                       cairn_error *err);
 void cairn_solver_finish(cairn_solver *s);
 
 /* ---- iterate.c --------------------------------------------------------- */

@@ -116,6 +116,9 @@ int main(int argc, char **argv)
             "factorisation %.3g flop\n",
             net->nmarks, an->snoop_rounds, an->nrejections, an->snoop_iterations,
             an->snoop_factorisations, flops);
+    fprintf(stderr, "phases: analysis seconds: selinv %.2f, factorise %.2f, tests %.2f, "
+            "re-adjust %.2f, precision %.2f\n", an->t_selinv, an->t_factorise, an->t_tests,
+            an->t_readjust, an->t_precision);
     cairn_analysis_free(&an);
     cairn_adjustment_free(&adj);
     cairn_problem_free(&prob);
