@@ -29,25 +29,19 @@ typedef struct {
     int factorisations;
     double factor_seconds;  /* last factorisation, s */
     double t_factorise;     /* all assemblies + factorisations, s */
+    int factor_at_solution; /* 1: L is the factor of N at the current state */
+    int factor_consumed;    /* 1: L holds a selected inverse (in place) */
 } cairn_qa_engine;
 
 /* Build rows and state from the adjustment at its solution. */
 int cairn_qa_engine_init(cairn_qa_engine *eg, cairn_adjustment *adj, cairn_error *err);
 void cairn_qa_engine_clear(cairn_qa_engine *eg);
-/* The factor of the current state (the adjustment's, refactorised in
- * place by every re-adjustment). */
-const cholmod_factor *cairn_qa_engine_factor(const cairn_qa_engine *eg);
-
-/* Remove observation i and re-adjust from the current solution (first step
- * by Sherman–Morrison on the current factor, then Gauss–Newton with fresh
- * factorisations, then a final factorisation at the solution). Writes the
- * new solution into adj. Returns 0 or a CAIRN_SOLVE_* status. */
-int cairn_qa_engine_reject(cairn_qa_engine *eg, size_t i, cairn_error *err);
-/* Remove k > 1 observations at once and re-adjust by Gauss–Newton (first
- * step by the Woodbury form on the current factor when k is small, else
- * on one fresh factorisation; chord steps refined to the Gauss–Newton
- * step after it; a final factorisation). Same contract as
- * cairn_qa_engine_reject. */
+/* Remove the k observations idx[] and re-adjust from the current
+ * solution by Gauss–Newton: the first step on a fresh factorisation at the
+ * current point, chord steps refined to the Gauss–Newton step after it.
+ * Writes the new solution into adj; the factor is left at the round's
+ * starting point (factor_at_solution = 0). Returns 0 or a CAIRN_SOLVE_*
+ * status. */
 int cairn_qa_engine_reject_many(cairn_qa_engine *eg, const size_t *idx, size_t k,
                                 cairn_error *err);
 
@@ -57,7 +51,7 @@ int cairn_qa_engine_reject_many(cairn_qa_engine *eg, const size_t *idx, size_t k
 size_t cairn_qa_next_rejections(const cairn_analysis *an, const cairn_problem *p,
                                 size_t nmarks, size_t limit, size_t *pick);
 
-/* Refactorise N at the current state (bench timing). */
+/* Refactorise N at the current state (the rows as last linearised). */
 int cairn_qa_engine_refactor(cairn_qa_engine *eg, cairn_error *err);
 
 /* Qxx getter for cairn_redundancy over a selected inverse. */

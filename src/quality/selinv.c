@@ -68,6 +68,7 @@ struct cairn_selinv {
                        leading dimension = that supernode's row count */
     int *colsuper;  /* n: supernode holding each permuted column */
     int *pinv;      /* n: permuted position of each original unknown */
+    int x_borrowed; /* 1: x is the factor's value array (in-place form) */
 };
 
 /* ---------------------------------------------------------------- memory */
@@ -94,7 +95,7 @@ void cairn_selinv_free(cairn_selinv **pZ)
     SuiteSparse_free(Z->pi);
     SuiteSparse_free(Z->px);
     SuiteSparse_free(Z->s);
-    SuiteSparse_free(Z->x);
+    if (!Z->x_borrowed) SuiteSparse_free(Z->x);
     SuiteSparse_free(Z->colsuper);
     SuiteSparse_free(Z->pinv);
     SuiteSparse_free(Z);
@@ -105,7 +106,7 @@ void cairn_selinv_free(cairn_selinv **pZ)
  * super and perm (perm NULL means the identity).  The caller fills super,
  * pi, px and s before calling finish_index(). */
 static int alloc_handle(int n, int nsuper, size_t ssize, size_t xsize,
-                        cairn_selinv **pZ)
+                        double *borrow_x, cairn_selinv **pZ)
 {
     cairn_selinv *Z = xcalloc(1, sizeof *Z);
     if (Z == NULL) return CAIRN_SELINV_ENOMEM;
@@ -115,7 +116,8 @@ static int alloc_handle(int n, int nsuper, size_t ssize, size_t xsize,
     Z->pi = xmalloc((size_t)nsuper + 1, sizeof *Z->pi);
     Z->px = xmalloc((size_t)nsuper + 1, sizeof *Z->px);
     Z->s = xmalloc(ssize, sizeof *Z->s);
-    Z->x = xcalloc(xsize, sizeof *Z->x);
+    Z->x_borrowed = borrow_x != NULL;
+    Z->x = borrow_x ? borrow_x : xcalloc(xsize, sizeof *Z->x);
     Z->colsuper = xmalloc((size_t)n, sizeof *Z->colsuper);
     Z->pinv = xmalloc((size_t)n, sizeof *Z->pinv);
     if (!Z->super || !Z->pi || !Z->px || !Z->s || !Z->x || !Z->colsuper
@@ -157,7 +159,7 @@ int cairn_selinv_columns_int(int n, const int *perm, const int *colp,
     for (j = 0; j < n; j++)
         if (colp[j + 1] <= colp[j] || rowi[colp[j]] != j)
             return CAIRN_SELINV_EINVAL;
-    st = alloc_handle(n, n, (size_t)colp[n], (size_t)colp[n], &Z);
+    st = alloc_handle(n, n, (size_t)colp[n], (size_t)colp[n], NULL, &Z);
     if (st != 0) return st;
     for (j = 0; j <= n; j++) {
         Z->super[j] = j;
@@ -389,8 +391,9 @@ static int supernode_step(cairn_selinv *Z, int sn, const double *lx,
     return CAIRN_SELINV_OK;
 }
 
-int cairn_selinv_compute(const cholmod_factor *L, cholmod_common *cc,
-                         cairn_selinv **pZ)
+/* inplace: Z's values overwrite L's (see cairn_selinv_compute_inplace). */
+static int compute(const cholmod_factor *L, cholmod_common *cc, int inplace,
+                   cairn_selinv **pZ)
 {
     cairn_selinv *Z = NULL;
     const int *Ls, *Lpi, *Lpx, *Lsuper;
@@ -412,7 +415,8 @@ int cairn_selinv_compute(const cholmod_factor *L, cholmod_common *cc,
     Lpx = L->px;
     Ls = L->s;
 
-    st = alloc_handle((int)n, nsuper, L->ssize, L->xsize, &Z);
+    st = alloc_handle((int)n, nsuper, L->ssize, L->xsize,
+                      inplace ? (double *)L->x : NULL, &Z);
     if (st != 0) return st;
     for (sn = 0; sn <= nsuper; sn++) {
         Z->super[sn] = Lsuper[sn];
@@ -445,7 +449,10 @@ int cairn_selinv_compute(const cholmod_factor *L, cholmod_common *cc,
     }
 
     /* Reverse order: every supernode's ancestors (higher numbers) are done
-     * before it, which is all that (1) needs. */
+     * before it, which is all that (1) needs. In place, supernode_step
+     * reads L's block of sn only (L11 into w11/t11 and lhat, L21 into
+     * lhat) before it writes Z's block over it, and reads Z's finished
+     * ancestors, never L's: so one array serves both. */
     for (sn = nsuper - 1; sn >= 0; sn--) {
         st = supernode_step(Z, sn, (const double *)L->x + Lpx[sn], &w);
         if (st != 0) goto fail;
@@ -466,4 +473,16 @@ fail:
     SuiteSparse_free(w.rel);
     cairn_selinv_free(&Z);
     return st;
+}
+
+int cairn_selinv_compute(const cholmod_factor *L, cholmod_common *cc,
+                         cairn_selinv **pZ)
+{
+    return compute(L, cc, 0, pZ);
+}
+
+int cairn_selinv_compute_inplace(cholmod_factor *L, cholmod_common *cc,
+                                 cairn_selinv **pZ)
+{
+    return compute(L, cc, 1, pZ);
 }

@@ -1,50 +1,34 @@
 /* The re-adjustment engine of iterative data snooping (Baarda 1968, "A
  * Testing Procedure for Use in Geodetic Networks", Netherlands Geodetic
- * Commission, New Series 2(5)): remove one observation and move the
- * solution to the least-squares solution of the others.
+ * Commission, New Series 2(5)): remove observations and move the solution
+ * to the least-squares solution of the others.
  *
- * How a rejection is re-adjusted, and why.
+ * How a round is re-adjusted, and why.
  *
- * At the solution x0 of the network with observation i the normal matrix
- * is N = Σ pⱼ aⱼᵀaⱼ and its factor is at hand (the adjustment's, or ours
- * from the previous round). Without i it is N' = N − pᵢ aᵢᵀaᵢ, and the
- * Gauss–Newton step from x0 is Δ = N'⁻¹ b' with b' = −Σ_{j≠i} aⱼᵀ pⱼ vⱼ.
- * By the Sherman–Morrison formula (Golub & Van Loan, "Matrix
- * Computations", 4th ed., §2.1.4),
- *     N'⁻¹ = N⁻¹ + pᵢ u uᵀ / (1 − pᵢ aᵢ u),   u = N⁻¹ aᵢᵀ,
- * so Δ = y + pᵢ u (aᵢ y) / (1 − pᵢ aᵢ u) with y = N⁻¹ b': one solve with
- * two right-hand sides on the factor we already have. The denominator is
- * the redundancy number rᵢ, which snooping only removes when r ≥ 0.01.
+ * At the solution x0 of the network with the observations K the normal
+ * matrix is N = Σ pⱼ aⱼᵀaⱼ. Without K it is N' = N − Σ_K pᵢ aᵢᵀaᵢ, and the
+ * Gauss–Newton step from x0 is Δ = N'⁻¹ b' with b' = −Σ_{j∉K} aⱼᵀ pⱼ vⱼ.
+ * The factor of N is no longer at hand: the selected inverse that found K
+ * was computed in place over it (cairn_selinv_compute_inplace, one copy of
+ * L less: 300 MB at 10^5 marks). So the round refills N' on N's pattern (a
+ * rejected row keeps its place with weight 0, so the symbolic analysis of
+ * the solve stage still holds) and factorises it once, at x0. The steps
+ * after the first are chord steps on that factor, refined to the
+ * Gauss–Newton step (cairn_qa_engine_reject_many). Neither a rank-k
+ * update of the old factor (cholmod_updown works on a simplicial LDLᵀ copy
+ * only, and the selected inverse needs the supernodal LLᵀ form) nor the
+ * Woodbury form (k solves; at 10^5 marks a round rejects hundreds) would
+ * be cheaper than that one factorisation.
  *
- * This is exactly the step a rank-one downdate of the factor would give
- * (cholmod_updown with C = √pᵢ aᵢᵀ), but cheaper: cholmod_updown works
- * only on a simplicial LDLᵀ factor, so the supernodal factor would first
- * have to be copied and converted (cholmod_change_factor, a pass over all
- * of L that allocates a second factor), and afterwards the selected
- * inverse (cairn/selinv.h) still needs a supernodal LLᵀ factor, which a
- * simplicial one cannot be turned back into. The step needs neither.
- *
- * After the step the σ are re-evaluated and the network re-linearised at
- * x1 = x0 + Δ; when Δ was above the convergence threshold of the solve
- * stage (DEVELOPERS.md "Convergence": 0.01 × the smallest σ), ordinary
- * Gauss–Newton steps follow, each with a fresh numeric factorisation on
- * the symbolic analysis made once by the solve stage (the pattern of N
- * never changes: a rejected row enters with weight 0). A final
- * factorisation at the solution gives the factor of the selected inverse
- * and of the next round's step, as the solve stage's refactor_final does.
- * Near a solution Gauss–Newton needs no line search; a step that fails
- * to converge within the net's max-iterations is an error.
- *
- * Several rejections in one round (cairn_qa_engine_reject_many) take the
- * same path with k rows: the Woodbury form of the current factor when k
- * is small enough for k solves to be cheaper than a factorisation, else
- * one fresh factorisation; the later steps of the round are chord steps
- * on that operator, refined to the Gauss–Newton step (see there). So a
- * round costs one or two factorisations and one selected inverse.
+ * The round ends with the factor of N' at x0, not at the new solution x1
+ * (a few σ away): cairn_analyse computes the next selected inverse on it
+ * to choose the next rejections, and factorises once more at the solution
+ * before the tests it reports. A round costs one factorisation and one
+ * selected inverse; snooping as a whole one more of each.
  *
  * Every factorisation here refills the adjustment's own N on its pattern
  * and refactorises into the adjustment's own factor, in place: no
- * triplets, no second copy of L (at 10^5 marks L is 300 MB). */
+ * triplets, no second copy of L. */
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -52,7 +36,7 @@
 
 #include "analysis_int.h"
 
-/* Refinement sweeps of a chord or Woodbury step (cairn_qa_engine_reject_many):
+/* Refinement sweeps of a chord step (cairn_qa_engine_reject_many):
  * each multiplies the step's error by the relative difference between
  * the operator solved with and N' (1e-5 or less), so two leave it at
  * rounding level. */
@@ -227,6 +211,7 @@ int cairn_qa_engine_init(cairn_qa_engine *eg, cairn_adjustment *adj, cairn_error
         }
     }
     eg->rp[eg->nobs] = k;
+    eg->factor_at_solution = 1;   /* the solve stage's refactor_final */
     /* Our own linearisation must reproduce the solve stage's rows and
      * residuals at its solution; anything else would be a bug here. */
     double *keep = malloc((k ? k : 1) * sizeof *keep);
@@ -254,11 +239,6 @@ void cairn_qa_engine_clear(cairn_qa_engine *eg)
     free(eg->h);
     free(eg->omega);
     memset(eg, 0, sizeof *eg);
-}
-
-const cholmod_factor *cairn_qa_engine_factor(const cairn_qa_engine *eg)
-{
-    return eg->L;
 }
 
 /* Position of row r in lower column c (r ≥ c) of N's sorted pattern. */
@@ -313,6 +293,7 @@ static int factorise(cairn_qa_engine *eg, cairn_error *err)
     eg->factor_seconds = cairn_qa_now() - t0;
     eg->t_factorise += cairn_qa_now() - ta;
     eg->factorisations++;
+    eg->factor_consumed = 0;
     if (cc->status == CHOLMOD_OUT_OF_MEMORY)
         return oom(err);
     if (!ok || cc->status < 0)
@@ -330,7 +311,10 @@ static int factorise(cairn_qa_engine *eg, cairn_error *err)
 
 int cairn_qa_engine_refactor(cairn_qa_engine *eg, cairn_error *err)
 {
-    return eg->n > 0 ? factorise(eg, err) : 0;
+    int rc = eg->n > 0 ? factorise(eg, err) : 0;
+    if (rc == 0)
+        eg->factor_at_solution = 1;
+    return rc;
 }
 
 /* Solve F X = B for ncol right-hand sides (column-major, n each). */
@@ -432,162 +416,33 @@ static void write_back(cairn_qa_engine *eg, double vtpv)
     adj->sigma0_sq = adj->dof > 0 ? vtpv / adj->dof : NAN;
 }
 
-/* The Woodbury form of the factor without k rejected rows: with F the
- * factor of N (rows included, weights p) and A the k rejected rows,
- *     (N − Aᵀ P A)⁻¹ r = y + U C⁻¹ (A y),  y = F⁻¹ r,  U = F⁻¹ Aᵀ,
- *     C = P⁻¹ − A U
- * (Golub & Van Loan, "Matrix Computations", 4th ed., §2.1.4), the
- * k-row generalisation of the Sherman–Morrison step at the top of the
- * file. C (k × k, symmetric positive definite while N − AᵀPA is) is kept
- * as its Cholesky factor. */
-typedef struct {
-    size_t k;
-    const size_t *idx;
-    double *U;      /* n × k, column-major */
-    double *C;      /* k × k, lower Cholesky factor of C */
-    double *t;      /* k */
-} woodbury;
-
-/* Whether the k solves for U and the refinement of the first step (about
- * k + 4 solves with one right-hand side) cost well under one
- * factorisation. A solve takes about 4·nnz(L) flops, memory-bound; the
- * factorisation cc->fl at BLAS 3 speed: measured here, one factorisation
- * costs as much as about 30 solves at 10^4 to 10^5 marks, where
- * cc->fl / (4·nnz(L)) is about 45, hence the factor 1.5 for speed, and 2
- * to leave a clear gain. U must also stay small beside L. */
-static int woodbury_pays(const cairn_qa_engine *eg, size_t k)
-{
-    const cholmod_common *cc = eg->cc;
-    return cc && cc->lnz > 0 && cc->fl > 0 &&
-           2.0 * 1.5 * 4.0 * cc->lnz * (double)(k + 4) < cc->fl &&
-           4.0 * (double)eg->n * (double)k <= cc->lnz;   /* U: a quarter of L at most */
-}
-
-/* U and C from the factor F (made with the rejected rows at weights p).
- * Returns 0, 1 when C is not positive definite (the caller factorises
- * afresh, which reports what became undetermined), or a status. */
-static int woodbury_setup(cairn_qa_engine *eg, const size_t *idx, size_t k, const double *p,
-                          woodbury *W, cairn_error *err)
-{
-    size_t n = (size_t)eg->n;
-    W->k = k;
-    W->idx = idx;
-    W->U = calloc(n * k, sizeof *W->U);
-    W->C = calloc(k * k + k, sizeof *W->C);
-    if (!W->U || !W->C)
-        return oom(err);
-    W->t = W->C + k * k;
-    for (size_t j = 0; j < k; j++)
-        for (size_t q = eg->rp[idx[j]]; q < eg->rp[idx[j] + 1]; q++)
-            W->U[j * n + (size_t)eg->ri[q]] += eg->rc[q];
-    int rc = solve(eg, eg->L, W->U, (int)k, err);
-    if (rc)
-        return rc;
-    double *C = W->C;
-    for (size_t j = 0; j < k; j++)
-        for (size_t l = 0; l <= j; l++) {
-            double au = 0;
-            for (size_t q = eg->rp[idx[j]]; q < eg->rp[idx[j] + 1]; q++)
-                au += eg->rc[q] * W->U[l * n + (size_t)eg->ri[q]];
-            C[j + l * k] = (j == l ? 1.0 / p[j] : 0.0) - au;
-        }
-    /* Cholesky, lower, in place; a pivot below 1e-9 of 1/p is a rejected
-     * row without redundancy left (r = p·C(j,j) for k = 1) */
-    for (size_t j = 0; j < k; j++) {
-        double d = C[j + j * k];
-        for (size_t l = 0; l < j; l++)
-            d -= C[j + l * k] * C[j + l * k];
-        if (!(d > 1e-9 / p[j]))
-            return 1;
-        d = sqrt(d);
-        C[j + j * k] = d;
-        for (size_t i = j + 1; i < k; i++) {
-            double v = C[i + j * k];
-            for (size_t l = 0; l < j; l++)
-                v -= C[i + l * k] * C[j + l * k];
-            C[i + j * k] = v / d;
-        }
-    }
-    return 0;
-}
-
-/* r := (N − AᵀPA)⁻¹ r with the Woodbury form. */
-static int woodbury_solve(cairn_qa_engine *eg, const woodbury *W, double *r, cairn_error *err)
-{
-    size_t n = (size_t)eg->n, k = W->k;
-    int rc = solve(eg, eg->L, r, 1, err);
-    if (rc)
-        return rc;
-    const double *C = W->C;
-    double *t = W->t;
-    for (size_t j = 0; j < k; j++) {
-        double ay = 0;
-        for (size_t q = eg->rp[W->idx[j]]; q < eg->rp[W->idx[j] + 1]; q++)
-            ay += eg->rc[q] * r[eg->ri[q]];
-        t[j] = ay;
-    }
-    for (size_t j = 0; j < k; j++) {          /* C = LLᵀ: forward, then back */
-        double v = t[j];
-        for (size_t l = 0; l < j; l++)
-            v -= C[j + l * k] * t[l];
-        t[j] = v / C[j + j * k];
-    }
-    for (size_t j = k; j-- > 0;) {
-        double v = t[j];
-        for (size_t l = j + 1; l < k; l++)
-            v -= C[l + j * k] * t[l];
-        t[j] = v / C[j + j * k];
-    }
-    for (size_t j = 0; j < k; j++) {
-        const double *u = W->U + j * n;
-        double s = t[j];
-        if (s != 0)
-            for (size_t i = 0; i < n; i++)
-                r[i] += u[i] * s;
-    }
-    return 0;
-}
-
 int cairn_qa_engine_reject_many(cairn_qa_engine *eg, const size_t *idx, size_t k,
                                 cairn_error *err)
 {
-    if (k == 1)
-        return cairn_qa_engine_reject(eg, idx[0], err);
     cairn_adjustment *adj = eg->adj;
     double vtpv, minlen, minang, ml = INFINITY, ma = INFINITY;
-    int rc;
+    int rc = 0;
     size_t nv = eg->n > 0 ? (size_t)eg->n : 1;
-    double *y = calloc(3 * nv + k, sizeof *y);
-    if (!y)
-        return oom(err);
-    double *b = y + nv, *d = y + 2 * nv, *p = y + 3 * nv;
     for (size_t j = 0; j < k; j++) {
-        if (idx[j] >= eg->nobs || eg->out[idx[j]]) {
-            free(y);
+        if (idx[j] >= eg->nobs || eg->out[idx[j]])
             return internal(err, "rejecting an observation twice");
-        }
-        p[j] = eg->wt[idx[j]];
         eg->out[idx[j]] = 1;
         eg->wt[idx[j]] = 0;
     }
-    woodbury W;
-    memset(&W, 0, sizeof W);
+    double *y = calloc(3 * nv, sizeof *y);
+    if (!y)
+        return oom(err);
+    double *b = y + nv, *d = y + 2 * nv;
     int maxit = adj->net->opt.max_iterations > 0 ? adj->net->opt.max_iterations : 25;
-    /* The steps of this round use one operator for N': for a few
-     * rejections the Woodbury form on the factor at hand (made at this
-     * state with the rows still in, so no factorisation at all until the
-     * final one), else one fresh factorisation without them. Every step
-     * after the first is a chord step on that operator: the normal matrix
-     * N' at the new point differs from it by the change of the
-     * coefficients over one small step, a relative 1e-5 or less. Each
-     * step (the first too, for the Woodbury form's rounding) gets
-     * CHORD_REFINE sweeps of iterative refinement against N' itself at
-     * the current point, which make it the Gauss–Newton step to rounding,
-     * for a few solves and products with the design rows instead of a
-     * factorisation. A step that fails to shrink tenfold gets a fresh
-     * factorisation instead. */
+    /* The first step is solved on a fresh factorisation of N' at the
+     * round's starting point (the selected inverse has used up the factor
+     * at hand, cairn_selinv_compute_inplace). Every later step is a chord
+     * step on that factor: N' at the new point differs from it by the
+     * change of the coefficients over one small step, a relative 1e-5 or
+     * less, and CHORD_REFINE sweeps of iterative refinement against N' at
+     * the current point make it the Gauss–Newton step to rounding. A step
+     * that fails to shrink tenfold gets a fresh factorisation instead. */
     double prev_ml = INFINITY, prev_ma = INFINITY;
-    int have_op = 0, use_w = 0, fresh = 0;
     for (int it = 0;; it++) {
         if ((rc = linearise(eg, &vtpv, &minlen, &minang, err)))
             goto done;
@@ -604,35 +459,20 @@ int cairn_qa_engine_reject_many(cairn_qa_engine *eg, const size_t *idx, size_t k
             rc = CAIRN_SOLVE_ENOCONV;
             goto done;
         }
-        int chord = have_op && ml <= 0.1 * prev_ml && ma <= 0.1 * prev_ma;
-        if (!have_op && woodbury_pays(eg, k)) {
-            rc = woodbury_setup(eg, idx, k, p, &W, err);
-            if (rc < 0 || rc > 1)
-                goto done;
-            use_w = rc == 0;
-            have_op = use_w;
-        }
-        if (!have_op || (!chord && it > 0)) {
-            if ((rc = factorise(eg, err)))
-                goto done;
-            have_op = 1;
-            use_w = 0;
-            fresh = 1;
-        } else {
-            fresh = 0;
-        }
+        int fresh = it == 0 || !(ml <= 0.1 * prev_ml && ma <= 0.1 * prev_ma);
+        if (fresh && (rc = factorise(eg, err)))
+            goto done;
         prev_ml = ml;
         prev_ma = ma;
         rhs(eg, y);
-        int refine = !fresh;
-        if (refine)
+        if (!fresh)
             memcpy(b, y, (size_t)eg->n * sizeof *b);
-        if ((rc = use_w ? woodbury_solve(eg, &W, y, err) : solve(eg, eg->L, y, 1, err)))
+        if ((rc = solve(eg, eg->L, y, 1, err)))
             goto done;
-        for (int sweep = 0; refine && sweep < CHORD_REFINE; sweep++) {
-            /* d = op⁻¹(b − N'Δ), N'Δ = Σ aⱼᵀ pⱼ (aⱼΔ) at this point */
+        for (int sweep = 0; !fresh && sweep < CHORD_REFINE; sweep++) {
+            /* d = F⁻¹(b − N'Δ), N'Δ = Σ aⱼᵀ pⱼ (aⱼΔ) at this point */
             residual_nx(eg, y, b, d);
-            if ((rc = use_w ? woodbury_solve(eg, &W, d, err) : solve(eg, eg->L, d, 1, err)))
+            if ((rc = solve(eg, eg->L, d, 1, err)))
                 goto done;
             for (int j = 0; j < eg->n; j++)
                 y[j] += d[j];
@@ -640,88 +480,12 @@ int cairn_qa_engine_reject_many(cairn_qa_engine *eg, const size_t *idx, size_t k
         step(eg, y, &ml, &ma);
         eg->iterations++;
     }
-    if (eg->n > 0 && (rc = factorise(eg, err)))
-        goto done;
+    /* The factor at hand belongs to the round's starting point, not to the
+     * solution: good enough to choose the next rejections, not for the
+     * reported quality (cairn_analyse refactorises before its last tests). */
+    eg->factor_at_solution = eg->n == 0;
     write_back(eg, vtpv);
 done:
-    free(W.U);
-    free(W.C);
     free(y);
-    return rc;
-}
-
-int cairn_qa_engine_reject(cairn_qa_engine *eg, size_t i, cairn_error *err)
-{
-    cairn_adjustment *adj = eg->adj;
-    size_t n = (size_t)eg->n;
-    double vtpv, minlen, minang, ml, ma;
-    int rc;
-    if (i >= eg->nobs || eg->out[i])
-        return internal(err, "rejecting an observation twice");
-    /* weight and row of i at the current linearisation, then without it */
-    double p = eg->wt[i];
-    eg->out[i] = 1;
-    if (n == 0) {
-        if ((rc = linearise(eg, &vtpv, NULL, NULL, err)))
-            return rc;
-        write_back(eg, vtpv);
-        return 0;
-    }
-    double *buf = calloc(2 * n, sizeof *buf);
-    if (!buf)
-        return oom(err);
-    double *u = buf, *y = buf + n;
-    for (size_t k = eg->rp[i]; k < eg->rp[i + 1]; k++)
-        u[eg->ri[k]] += eg->rc[k];
-    eg->wt[i] = 0;
-    rhs(eg, y);
-    /* Sherman–Morrison step on the current factor (see the top of the file) */
-    const cholmod_factor *F = cairn_qa_engine_factor(eg);
-    if ((rc = solve(eg, F, buf, 2, err)))
-        goto done;
-    double au = 0, ay = 0;
-    for (size_t k = eg->rp[i]; k < eg->rp[i + 1]; k++) {
-        au += eg->rc[k] * u[eg->ri[k]];
-        ay += eg->rc[k] * y[eg->ri[k]];
-    }
-    double r = 1.0 - p * au;
-    if (!(r > 1e-9)) {
-        rc = internal(err, "rejecting an observation without redundancy");
-        goto done;
-    }
-    for (size_t j = 0; j < n; j++)
-        y[j] += p * u[j] * ay / r;
-    step(eg, y, &ml, &ma);
-    eg->iterations++;
-    int maxit = adj->net->opt.max_iterations > 0 ? adj->net->opt.max_iterations : 25;
-    for (int it = 0;; it++) {
-        if ((rc = linearise(eg, &vtpv, &minlen, &minang, err)))
-            goto done;
-        double thr_len, thr_ang;
-        cairn_convergence_thresholds(minlen, minang, &thr_len, &thr_ang);
-        if (ml < thr_len && ma < thr_ang)
-            break;
-        if (it >= maxit) {
-            cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
-                            "the re-adjustment after rejecting an observation did not "
-                            "converge in %d iterations", maxit);
-            rc = CAIRN_SOLVE_ENOCONV;
-            goto done;
-        }
-        if ((rc = factorise(eg, err)))
-            goto done;
-        rhs(eg, y);
-        if ((rc = solve(eg, eg->L, y, 1, err)))
-            goto done;
-        step(eg, y, &ml, &ma);
-        eg->iterations++;
-    }
-    /* the factor at the solution, for the selected inverse and the next
-     * round (refactor_final of the solve stage) */
-    if ((rc = factorise(eg, err)))
-        goto done;
-    write_back(eg, vtpv);
-done:
-    free(buf);
     return rc;
 }

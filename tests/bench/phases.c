@@ -28,6 +28,24 @@ static double now(void)
     return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
 }
 
+/* Resident and peak memory now, MB (/proc/self/status), for the stderr
+ * memory profile. */
+static void mem_note(const char *where)
+{
+    FILE *f = fopen("/proc/self/status", "r");
+    char line[256];
+    double rss = NAN, hwm = NAN;
+    while (f && fgets(line, sizeof line, f)) {
+        if (!strncmp(line, "VmRSS:", 6))
+            rss = atof(line + 6) / 1024.0;
+        else if (!strncmp(line, "VmHWM:", 6))
+            hwm = atof(line + 6) / 1024.0;
+    }
+    if (f)
+        fclose(f);
+    fprintf(stderr, "phases: memory after %-9s rss %6.0f MB, peak %6.0f MB\n", where, rss, hwm);
+}
+
 static void die(const char *what, cairn_error *err)
 {
     fprintf(stderr, "phases: %s failed\n", what);
@@ -57,9 +75,11 @@ int main(int argc, char **argv)
     if (cairn_load_project(argv[1], &net, &err))
         die("load", &err);
     double t1 = now();
+    mem_note("load");
     if (cairn_problem_build(net, 0, &prob, &err))
         die("problem", &err);
     double t2 = now();
+    mem_note("build");
     if (cairn_start_compute(net, prob->dimension, NULL, &err))
         die("starting coordinates", &err);
     double t3 = now();
@@ -67,6 +87,7 @@ int main(int argc, char **argv)
     if (cairn_adjust(net, prob, NULL, &adj, &err))
         die("adjust", &err);
     double t4 = now();
+    mem_note("adjust");
     cairn_solve_timing st;
     cairn_adjustment_timing(adj, &st);
 
@@ -96,9 +117,11 @@ int main(int argc, char **argv)
     if (cairn_analyse(adj, &ao, &an, &err))
         die("analysis", &err);
     double q1 = now();
+    mem_note("analysis");
     if (cairn_write_results(outdir, adj, an, CAIRN_FORMAT_CSV | CAIRN_FORMAT_XML, &err))
         die("write", &err);
     double q2 = now();
+    mem_note("write");
 
     struct rusage ru;
     getrusage(RUSAGE_SELF, &ru);
@@ -116,6 +139,14 @@ int main(int argc, char **argv)
             "factorisation %.3g flop\n",
             net->nmarks, an->snoop_rounds, an->nrejections, an->snoop_iterations,
             an->snoop_factorisations, flops);
+    fprintf(stderr, "phases: rejections per round:");
+    for (int r = 1; r <= an->snoop_rounds; r++) {
+        size_t c = 0;
+        for (size_t k = 0; k < an->nrejections; k++)
+            c += an->rejections[k].round == r;
+        fprintf(stderr, " %zu", c);
+    }
+    fprintf(stderr, "\n");
     fprintf(stderr, "phases: analysis seconds: selinv %.2f, factorise %.2f, tests %.2f, "
             "re-adjust %.2f, precision %.2f\n", an->t_selinv, an->t_factorise, an->t_tests,
             an->t_readjust, an->t_precision);
