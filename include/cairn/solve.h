@@ -207,6 +207,16 @@ int cairn_adjustment_design_row(const cairn_adjustment *adj, size_t i,
                                 int *pidx, double *pcoef, int *pcount,
                                 double *psigma);
 
+/** The design-row pattern of the solve stage, for the quality stage's
+ *  re-adjustments, which share it instead of a copy (about 100 MB at
+ *  10^5 marks): row i has the entries (*pptr)[i] .. (*pptr)[i+1]-1, with
+ *  unknowns (*punk)[k] and coefficients (*pcoef)[k], the latter at the
+ *  solve stage's last linearisation; cairn_analyse overwrites them with
+ *  its own. cairn_adjustment_design_row does not read them. Returns 0, or
+ *  -1 when the adjustment has no rows (no unknowns). */
+int cairn_adjustment_rows_rw(cairn_adjustment *adj, const size_t **pptr, const int **punk,
+                             double **pcoef);
+
 /** Printable name of an unknown into buf, e.g. "N7.e" or "orientation of
  *  the setup at Q1 (FILE:LINE)". Returns buf. */
 const char *cairn_unknown_name(const cairn_adjustment *adj, int j, char *buf,

@@ -18,9 +18,12 @@ typedef struct {
     cholmod_sparse *N;      /* the adjustment's N, refilled on its pattern */
     int n;                  /* unknowns */
     size_t nobs;
-    size_t *rp;             /* nobs + 1: row i has entries rp[i] .. rp[i+1]-1 */
-    int *ri;                /* unknown of each entry */
+    /* the solve stage's design rows, shared (cairn_adjustment_rows_rw),
+     * or owned empty rows when there are no unknowns */
+    const size_t *rp;       /* nobs + 1: row i has entries rp[i] .. rp[i+1]-1 */
+    const int *ri;          /* unknown of each entry */
     double *rc;             /* coefficient of each entry at the current state */
+    size_t *own_rp;         /* the empty rows' rp, when owned */
     double *wt;             /* 1/σ², 0 for a rejected observation */
     unsigned char *out;     /* 1: rejected */
     double *e, *nn, *h, *omega;  /* local state (e, n minus the origin) */

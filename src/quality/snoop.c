@@ -91,51 +91,65 @@ static const cairn_obs *local_obs(const cairn_adjustment *adj, size_t i, cairn_o
     return tmp;
 }
 
-/* Linearise every observation at the engine's state: coefficients, σ,
- * weights (0 when rejected), computed values and residuals into adj, vᵀPv
- * of the observations used, and the smallest length and angular σ. */
+/* Linearise observation i at the engine's state: the coefficients of its
+ * row, its σ and weight (0 when rejected), computed value and residual
+ * into adj; *psig gets σ. */
+static int linearise_one(cairn_qa_engine *eg, size_t i, double *psig, cairn_error *err)
+{
+    cairn_adjustment *adj = eg->adj;
+    cairn_obs tmp;
+    const cairn_obs *o = local_obs(adj, i, &tmp);
+    cairn_lin lin;
+    memset(&lin, 0, sizeof lin);
+    double sig = cairn_obs_sigma(adj->prob, o, &eg->st);
+    if (!(sig > 0) || !isfinite(sig) || cairn_obs_linearise(adj->prob, o, &eg->st, &lin) ||
+        !isfinite(lin.value)) {
+        cairn_error_add(err, CAIRN_SEV_ERROR, o->src.file, o->src.line, o->src.col,
+                        "this %s cannot be computed while re-adjusting after a "
+                        "rejection (coincident marks?)", cairn_obs_kind_name(o->kind));
+        return CAIRN_SOLVE_EGEOM;
+    }
+    for (size_t k = eg->rp[i]; k < eg->rp[i + 1]; k++)
+        eg->rc[k] = 0;
+    for (int par = 0; par < CAIRN_NPAR; par++) {
+        if (lin.d[par] == 0)
+            continue;
+        int u = par_unknown(adj, o, par);
+        if (u < 0)
+            continue;
+        size_t k = eg->rp[i];
+        while (k < eg->rp[i + 1] && eg->ri[k] != u)
+            k++;
+        if (k == eg->rp[i + 1])
+            return internal(err, "a partial derivative outside the design-row pattern");
+        eg->rc[k] += lin.d[par];
+    }
+    adj->computed[i] = lin.value;
+    adj->residual[i] = cairn_obs_residual(o, lin.value);
+    adj->sigma[i] = sig;
+    eg->wt[i] = eg->out[i] ? 0.0 : 1.0 / (sig * sig);
+    *psig = sig;
+    return 0;
+}
+
+/* Linearise every observation at the engine's state (linearise_one), and
+ * give vᵀPv of the observations used and their smallest length and
+ * angular σ. */
 static int linearise(cairn_qa_engine *eg, double *pvtpv, double *pminlen, double *pminang,
                      cairn_error *err)
 {
     cairn_adjustment *adj = eg->adj;
     double f = 0, minlen = INFINITY, minang = INFINITY;
     for (size_t i = 0; i < eg->nobs; i++) {
-        cairn_obs tmp;
-        const cairn_obs *o = local_obs(adj, i, &tmp);
-        cairn_lin lin;
-        memset(&lin, 0, sizeof lin);
-        double sig = cairn_obs_sigma(adj->prob, o, &eg->st);
-        if (!(sig > 0) || !isfinite(sig) || cairn_obs_linearise(adj->prob, o, &eg->st, &lin) ||
-            !isfinite(lin.value)) {
-            cairn_error_add(err, CAIRN_SEV_ERROR, o->src.file, o->src.line, o->src.col,
-                            "this %s cannot be computed while re-adjusting after a "
-                            "rejection (coincident marks?)", cairn_obs_kind_name(o->kind));
-            return CAIRN_SOLVE_EGEOM;
-        }
-        for (size_t k = eg->rp[i]; k < eg->rp[i + 1]; k++)
-            eg->rc[k] = 0;
-        for (int par = 0; par < CAIRN_NPAR; par++) {
-            if (lin.d[par] == 0)
-                continue;
-            int u = par_unknown(adj, o, par);
-            if (u < 0)
-                continue;
-            size_t k = eg->rp[i];
-            while (k < eg->rp[i + 1] && eg->ri[k] != u)
-                k++;
-            if (k == eg->rp[i + 1])
-                return internal(err, "a partial derivative outside the design-row pattern");
-            eg->rc[k] += lin.d[par];
-        }
-        double v = cairn_obs_residual(o, lin.value);
-        adj->computed[i] = lin.value;
-        adj->residual[i] = v;
-        adj->sigma[i] = sig;
-        eg->wt[i] = eg->out[i] ? 0.0 : 1.0 / (sig * sig);
+        double sig;
+        int rc = linearise_one(eg, i, &sig, err);
+        if (rc)
+            return rc;
         if (eg->out[i])
             continue;
+        double v = adj->residual[i];
         f += eg->wt[i] * v * v;
-        if (cairn_obs_kind_angular(o->kind)) {
+        if (cairn_obs_kind_angular(adj->prob->obs[i].kind)) {
             if (sig < minang)
                 minang = sig;
         } else if (sig < minlen) {
@@ -161,18 +175,22 @@ int cairn_qa_engine_init(cairn_qa_engine *eg, cairn_adjustment *adj, cairn_error
     eg->n = adj->nunknowns;
     eg->nobs = adj->nobs;
     size_t no = eg->nobs ? eg->nobs : 1, nm = net->nmarks ? net->nmarks : 1;
-    size_t ns = net->nsetups ? net->nsetups : 1, cap = 4 * no;
-    eg->rp = malloc((no + 1) * sizeof *eg->rp);
-    eg->ri = malloc(cap * sizeof *eg->ri);
-    eg->rc = malloc(cap * sizeof *eg->rc);
+    size_t ns = net->nsetups ? net->nsetups : 1;
+    if (cairn_adjustment_rows_rw(adj, &eg->rp, &eg->ri, &eg->rc)) {
+        /* no unknowns: every row is empty */
+        if (!(eg->own_rp = calloc(no + 1, sizeof *eg->own_rp)))
+            return oom(err);
+        eg->rp = eg->own_rp;
+        eg->ri = NULL;
+        eg->rc = NULL;
+    }
     eg->wt = calloc(no, sizeof *eg->wt);
     eg->out = calloc(no, 1);
     eg->e = calloc(nm, sizeof *eg->e);
     eg->nn = calloc(nm, sizeof *eg->nn);
     eg->h = calloc(nm, sizeof *eg->h);
     eg->omega = calloc(ns, sizeof *eg->omega);
-    if (!eg->rp || !eg->ri || !eg->rc || !eg->wt || !eg->out || !eg->e || !eg->nn ||
-        !eg->h || !eg->omega)
+    if (!eg->wt || !eg->out || !eg->e || !eg->nn || !eg->h || !eg->omega)
         return oom(err);
     eg->st.e = eg->e;
     eg->st.n = eg->nn;
@@ -185,53 +203,34 @@ int cairn_qa_engine_init(cairn_qa_engine *eg, cairn_adjustment *adj, cairn_error
     }
     for (size_t s = 0; s < net->nsetups; s++)
         eg->omega[s] = isfinite(adj->omega[s]) ? adj->omega[s] : 0.0;
-    /* the design-row pattern and coefficients of the solve stage */
-    size_t k = 0;
-    for (size_t i = 0; i < eg->nobs; i++) {
-        int idx[CAIRN_ROW_MAX], cnt;
-        double coef[CAIRN_ROW_MAX], sig;
-        eg->rp[i] = k;
-        if (cairn_adjustment_design_row(adj, i, idx, coef, &cnt, &sig))
-            return internal(err, "no design row for an observation");
-        if (k + (size_t)cnt > cap) {
-            size_t ncap = 2 * cap + (size_t)cnt;
-            int *ni = realloc(eg->ri, ncap * sizeof *ni);
-            if (!ni)
-                return oom(err);
-            eg->ri = ni;
-            double *nc = realloc(eg->rc, ncap * sizeof *nc);
-            if (!nc)
-                return oom(err);
-            eg->rc = nc;
-            cap = ncap;
-        }
-        for (int q = 0; q < cnt; q++, k++) {
-            eg->ri[k] = idx[q];
-            eg->rc[k] = coef[q];
-        }
-    }
-    eg->rp[eg->nobs] = k;
     eg->factor_at_solution = 1;   /* the solve stage's refactor_final */
-    /* Our own linearisation must reproduce the solve stage's rows and
-     * residuals at its solution; anything else would be a bug here. */
-    double *keep = malloc((k ? k : 1) * sizeof *keep);
-    if (!keep)
-        return oom(err);
-    memcpy(keep, eg->rc, k * sizeof *keep);
-    double vtpv;
-    int rc = linearise(eg, &vtpv, NULL, NULL, err);
-    for (size_t q = 0; rc == 0 && q < k; q++)
-        if (fabs(keep[q] - eg->rc[q]) > 1e-9 * fmax(1.0, fabs(keep[q])))
-            rc = internal(err, "the analysis linearises differently from the solve stage");
-    free(keep);
-    return rc;
+    /* Our own linearisation must reproduce the solve stage's rows (its
+     * coefficients at the solution) and σ; anything else would be a bug
+     * here. Row by row, so that no copy of the rows is needed. */
+    for (size_t i = 0; i < eg->nobs; i++) {
+        double keep[CAIRN_ROW_MAX], sig;
+        size_t k0 = eg->rp[i], cnt = eg->rp[i + 1] - k0;
+        if (cnt > CAIRN_ROW_MAX)
+            return internal(err, "a design row longer than CAIRN_ROW_MAX");
+        for (size_t q = 0; q < cnt; q++)
+            keep[q] = eg->rc[k0 + q];
+        double sig0 = adj->sigma[i];
+        int rc = linearise_one(eg, i, &sig, err);
+        if (rc)
+            return rc;
+        for (size_t q = 0; q < cnt; q++)
+            if (fabs(keep[q] - eg->rc[k0 + q]) > 1e-9 * fmax(1.0, fabs(keep[q])))
+                return internal(err, "the analysis linearises differently from the solve "
+                                     "stage");
+        if (fabs(sig - sig0) > 1e-9 * sig0)
+            return internal(err, "the analysis evaluates a σ differently from the solve stage");
+    }
+    return 0;
 }
 
 void cairn_qa_engine_clear(cairn_qa_engine *eg)
 {
-    free(eg->rp);
-    free(eg->ri);
-    free(eg->rc);
+    free(eg->own_rp);
     free(eg->wt);
     free(eg->out);
     free(eg->e);

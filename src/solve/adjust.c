@@ -250,6 +250,17 @@ cholmod_common *cairn_adjustment_common(cairn_adjustment *adj)
     return adj && adj->solver && adj->solver->started ? &adj->solver->cc : NULL;
 }
 
+int cairn_adjustment_rows_rw(cairn_adjustment *adj, const size_t **pptr, const int **punk,
+                             double **pcoef)
+{
+    if (!adj || !adj->solver || adj->nunknowns == 0 || !adj->solver->rows.ptr)
+        return -1;
+    *pptr = adj->solver->rows.ptr;
+    *punk = adj->solver->rows.unk;
+    *pcoef = adj->solver->rows.coef;
+    return 0;
+}
+
 int cairn_adjustment_design_row(const cairn_adjustment *adj, size_t i,
                                 int *pidx, double *pcoef, int *pcount,
                                 double *psigma)
