@@ -601,6 +601,42 @@ START_TEST(levenberg_marquardt)
 }
 END_TEST
 
+/* Chord steps (iterate.c, DEVELOPERS.md "Chord steps"): on the
+ * intersection of levenberg_marquardt from starts tens to hundreds of
+ * metres off, the adjustment with chord steps reaches the same exact
+ * solution as the one that factorises every iteration, takes some steps
+ * on an earlier factor, and factorises fewer times in all. */
+START_TEST(chord_steps)
+{
+    static const double starts[][2] = {{1050, 1900}, {1080, 2050}, {1000, 2200}};
+    int nfact[2] = {0, 0}, nchord[2] = {0, 0};
+    for (int chord = 0; chord <= 1; chord++)
+        for (size_t k = 0; k < sizeof starts / sizeof starts[0]; k++) {
+            int p;
+            cairn_net *net = intersection_net(starts[k][0], starts[k][1], &p);
+            cairn_adjust_options opt;
+            cairn_adjust_options_default(&opt);
+            opt.chord = chord;
+            opt.max_iterations = 100;
+            cairn_problem *pr = NULL;
+            cairn_adjustment *adj = NULL;
+            char msg[2000];
+            ck_assert_msg(run_opt(net, 0, &opt, &pr, &adj, msg, sizeof msg) == 0, "%s", msg);
+            ck_assert_double_eq_tol(adj->e[p], 1050.0, 1e-7);
+            ck_assert_double_eq_tol(adj->n[p], 2080.0, 1e-7);
+            for (int i = 0; i < adj->iterations; i++)
+                nchord[chord] += adj->log[i].chord;
+            cairn_solve_timing t;
+            cairn_adjustment_timing(adj, &t);
+            nfact[chord] += t.nfactorise;
+            done(&net, &pr, &adj);
+        }
+    ck_assert_int_eq(nchord[0], 0);
+    ck_assert_int_gt(nchord[1], 0);
+    ck_assert_int_lt(nfact[1], nfact[0]);
+}
+END_TEST
+
 static Suite *solve_suite(void)
 {
     Suite *s = suite_create("solve");
@@ -618,6 +654,7 @@ static Suite *solve_suite(void)
     tcase_add_test(tc, csv_rows);
     tcase_add_test(tc, far_start_metis);
     tcase_add_test(tc, levenberg_marquardt);
+    tcase_add_test(tc, chord_steps);
     suite_add_tcase(s, tc);
     return s;
 }
