@@ -423,13 +423,18 @@ int cairn_analysis_alarm(const cairn_analysis *an);
 /* Iterative data snooping (Baarda 1968) is run by cairn_analyse with
  * CAIRN_SNOOP_ITERATE: test, reject the observation with the largest
  * |w| (|τ| with scale_aposteriori) above the critical value, re-adjust,
- * repeat until none is left or max_rejections are gone. Each rejection is
- * listed in cairn_analysis.rejections. The re-adjustment starts from the
- * previous solution: its first step is the exact Gauss–Newton step of the
- * network without the observation, taken from the previous factor by the
- * Sherman–Morrison formula (one solve, no refactorisation); further steps
- * and the final factor for the selected inverse factorise afresh on the
- * symbolic analysis of the adjustment (snoop.c explains the choice). */
+ * repeat until none is left or max_rejections are gone. A round also
+ * rejects further failing observations far from the ones already chosen
+ * (snoop_batch.c). Each rejection is listed in cairn_analysis.rejections.
+ * The re-adjustment starts from the previous solution: one fresh
+ * factorisation of the network without the round's rejections (on the
+ * adjustment's symbolic analysis), then chord steps refined to the
+ * Gauss–Newton step. The next round's tests use that factor (made at the
+ * round's start), which is good for choosing rejections; before the
+ * tests that are reported, the factor is remade at the final solution.
+ * The selected inverse is computed in place over the factor, so after
+ * cairn_analyse the adjustment's factor holds no factor (snoop.c explains
+ * the choices). */
 
 /* ------------------------------------------------------------------ */
 /* 8. Diagnoses of an analysis (src/quality/diagnose_all.c)            */
