@@ -16,10 +16,18 @@
 #define DEG_DEC 10
 #define SEC_DEC 7
 
-/* XML attribute text: & < > " and control characters escaped. */
+/* XML attribute text: & < > " and control characters escaped. Most text
+ * (ids, file names) needs nothing: then it goes out in one piece. */
 static void esc(FILE *f, const char *s)
 {
-    for (; s && *s; s++) {
+    if (!s)
+        return;
+    const char *p = s;
+    while (*p && *p != '&' && *p != '<' && *p != '>' && *p != '"' &&
+           (unsigned char)*p >= 0x20)
+        p++;
+    fwrite(s, 1, (size_t)(p - s), f);
+    for (s = p; *s; s++) {
         unsigned char c = (unsigned char)*s;
         switch (c) {
         case '&': fputs("&amp;", f); break;
@@ -30,28 +38,42 @@ static void esc(FILE *f, const char *s)
             if (c < 0x20)
                 fprintf(f, "&#%u;", c);   /* tab, newline: kept as references */
             else
-                fputc(c, f);
+                putc(c, f);
         }
     }
 }
 
 static void attr_s(FILE *f, const char *name, const char *v)
 {
-    fputc(' ', f);
-    fputs(name, f);
-    fputs("=\"", f);
+    char b[64];
+    size_t n = strlen(name);
+    if (n + 3 <= sizeof b) {
+        b[0] = ' ';
+        memcpy(b + 1, name, n);
+        memcpy(b + 1 + n, "=\"", 2);
+        fwrite(b, 1, n + 3, f);
+    } else {
+        fprintf(f, " %s=\"", name);
+    }
     esc(f, v);
-    fputc('"', f);
+    putc('"', f);
 }
 
-/* name="text", the text needing no escape (a number). */
+/* name="text", the text needing no escape (a number): one write. */
 static void attr_raw(FILE *f, const char *name, const char *text)
 {
-    fputc(' ', f);
-    fputs(name, f);
-    fputs("=\"", f);
-    fputs(text, f);
-    fputc('"', f);
+    char b[160];
+    size_t n = strlen(name), t = strlen(text);
+    if (n + t + 4 > sizeof b) {
+        fprintf(f, " %s=\"%s\"", name, text);
+        return;
+    }
+    b[0] = ' ';
+    memcpy(b + 1, name, n);
+    memcpy(b + 1 + n, "=\"", 2);
+    memcpy(b + 3 + n, text, t);
+    b[3 + n + t] = '"';
+    fwrite(b, 1, n + t + 4, f);
 }
 
 /* Fixed decimals, never "-0.000"; omitted when not finite. */

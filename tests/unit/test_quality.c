@@ -251,6 +251,38 @@ START_TEST(results_xml_validates)
 }
 END_TEST
 
+/* results.xml escapes what a file name may hold (& < > " and a tab) and
+ * reads back to the same text (XML 1.0 §2.4, §3.3.3: attribute values). */
+START_TEST(results_xml_escapes_source)
+{
+    run r;
+    ck_assert_int_eq(run_network(&r, networks[0], NULL), 0);
+    const char *hostile = "a&b<c>\"d\te'f.cfb";
+    r.prob->obs[0].src.file = hostile;
+    char dir[] = "/tmp/cairn-test-quality-XXXXXX";
+    ck_assert_ptr_nonnull(mkdtemp(dir));
+    ck_assert_int_eq(cairn_write_results(dir, r.adj, r.an, CAIRN_FORMAT_XML, &r.err), 0);
+    char path[sizeof dir + 32];
+    snprintf(path, sizeof path, "%s/results.xml", dir);
+    xmlDocPtr doc = xmlReadFile(path, NULL, XML_PARSE_NONET);
+    ck_assert_ptr_nonnull(doc);
+    xmlNodePtr root = xmlDocGetRootElement(doc), n;
+    xmlChar *got = NULL;
+    for (n = root->children; n && !got; n = n->next)
+        if (n->type == XML_ELEMENT_NODE && !xmlStrcmp(n->name, BAD_CAST "observation"))
+            got = xmlGetProp(n, BAD_CAST "source");
+    ck_assert_ptr_nonnull(got);
+    char want[128];
+    snprintf(want, sizeof want, "%s:%d", hostile, r.prob->obs[0].src.line);
+    ck_assert_str_eq((const char *)got, want);
+    xmlFree(got);
+    xmlFreeDoc(doc);
+    ck_assert_int_eq(unlink(path), 0);
+    rmdir(dir);
+    run_free(&r);
+}
+END_TEST
+
 static Suite *quality_suite(void)
 {
     Suite *s = suite_create("quality");
@@ -262,6 +294,7 @@ static Suite *quality_suite(void)
     tcase_add_test(t, clean_network_no_alarm);
     tcase_add_test(t, aposteriori_factors);
     tcase_add_loop_test(t, results_xml_validates, 0, (int)NNET);
+    tcase_add_test(t, results_xml_escapes_source);
     suite_add_tcase(s, t);
     return s;
 }
