@@ -102,20 +102,23 @@ const char *cairn_obs_kind_name(cairn_obs_kind k);
  *    azimuth, rise: from → to (at = -1)
  *    control-*: at = the mark. */
 typedef struct {
+    /* the int-sized fields first, then the doubles: no padding between
+     * them (144 bytes, not 152; a national network holds two arrays of
+     * millions of these, the net's and the problem's) */
     cairn_obs_kind kind;
     int at, from, to;    /**< mark indices or -1 */
     int setup;           /**< setup index for sight readings, else -1 */
     int sight;           /**< sight number shared by one sight's readings, else -1 */
     int inst;            /**< instrument index (angle, rise, or the setup's), or -1 */
+    int face;            /**< 1 or 2 */
+    int setups;          /**< rise: number of level setups (0 if none) */
     double value;        /**< booked value: rad or m (distances before ppm) */
     double ih, th;       /**< m: instrument and target height of the sight */
     double ppm;          /**< setup ppm + sight ppm */
-    int face;            /**< 1 or 2 */
     double km;           /**< rise: length of the level run, km (0 if none) */
-    int setups;          /**< rise: number of level setups (0 if none) */
-    cairn_sd sd;         /**< explicit sd (sd.has == 0: from the instrument) */
     double aux_s;        /**< reduced obs: the booked slope distance (after ppm), m */
     double aux_z;        /**< reduced obs: the booked face-one zenith angle, rad */
+    cairn_sd sd;         /**< explicit sd (sd.has == 0: from the instrument) */
     cairn_src src;
 } cairn_obs;
 

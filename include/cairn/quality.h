@@ -346,12 +346,14 @@ typedef struct cairn_analysis {
     double *major, *minor, *azimuth;      /**< absolute ellipse at k2; rad for azimuth */
     double *h_interval;                   /**< m, k1 · sd_h */
     double *cov;           /**< 6 per mark: ee en eh nn nh hh (m²), NAN where absent */
-    double *axes3;         /**< 3 per mark: k3 · √λ, descending (e, n, h all unknowns) */
-    double *dirs3;         /**< 9 per mark: unit vectors of those axes */
+    double *axes3;         /**< 3 per mark: k3 · √λ, descending (e, n, h all unknowns);
+                                NULL when the problem has no plane or no height part */
+    double *dirs3;         /**< 9 per mark: unit vectors of those axes (NULL as axes3) */
 
     /* per observation */
     double *r, *w, *mdb, *nabla;
-    double *tau;           /**< w / σ0 a posteriori (scale_aposteriori), else NAN */
+    double *tau;           /**< w / σ0 a posteriori (scale_aposteriori); NULL
+                                without scale_aposteriori */
     double *external;      /**< m: largest coordinate shift of the unknowns it touches
                                 caused by a blunder of size mdb (see analysis.c) */
     cairn_obs_status *status;

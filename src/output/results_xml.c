@@ -257,8 +257,9 @@ static void marks(FILE *f, const cairn_adjustment *adj, const cairn_analysis *an
         int any = 0;
         for (int k = 0; k < 6; k++)
             any |= isfinite(c[k]);
-        const double *ax = &an->axes3[3 * m];
-        if (!any && !isfinite(ax[0])) {
+        const double *ax = an->axes3 ? &an->axes3[3 * m] : NULL;
+        int has3 = ax && isfinite(ax[0]);
+        if (!any && !has3) {
             fputs("/>\n", f);
             continue;
         }
@@ -270,7 +271,7 @@ static void marks(FILE *f, const cairn_adjustment *adj, const cairn_analysis *an
                 attr_g(f, cname[k], c[k] / lf2);
             fputs("/>\n", f);
         }
-        if (isfinite(ax[0]))
+        if (has3)
             for (int k = 0; k < 3; k++) {
                 const double *d = &an->dirs3[9 * m + 3 * (size_t)k];
                 fputs("    <axis", f);
@@ -336,7 +337,8 @@ static void observations(FILE *f, const cairn_adjustment *adj, const cairn_analy
         attr_f(f, "sd", ounit(o, adj->sigma[i], lf), dec);
         attr_f(f, "redundancy", an->r[i], 8);
         attr_f(f, "w", an->w[i], 7);
-        attr_f(f, "tau", an->tau[i], 7);
+        if (an->tau)
+            attr_f(f, "tau", an->tau[i], 7);
         attr_f(f, "mdb", ounit(o, an->mdb[i], lf), dec);
         attr_f(f, "nabla", ounit(o, an->nabla[i], lf), dec);
         attr_f(f, "external", an->external[i] / lf, LEN_DEC);

@@ -50,17 +50,21 @@ static int alloc_analysis(cairn_analysis *an, size_t nm, size_t no)
 {
     an->sd_e = nans(nm); an->sd_n = nans(nm); an->sd_h = nans(nm);
     an->major = nans(nm); an->minor = nans(nm); an->azimuth = nans(nm);
-    an->h_interval = nans(nm); an->cov = nans(6 * nm); an->axes3 = nans(3 * nm);
-    an->dirs3 = nans(9 * nm);
+    an->h_interval = nans(nm); an->cov = nans(6 * nm);
+    /* principal axes only where a mark can have e, n and h */
+    int three = an->adj->prob->plane && an->adj->prob->heights;
+    an->axes3 = three ? nans(3 * nm) : NULL;
+    an->dirs3 = three ? nans(9 * nm) : NULL;
     an->r = nans(no); an->w = nans(no); an->mdb = nans(no); an->nabla = nans(no);
-    an->tau = nans(no); an->external = nans(no);
+    /* τ only with the variance factor estimated: 8 bytes per observation */
+    an->tau = an->scale_aposteriori ? nans(no) : NULL;
+    an->external = nans(no);
     an->status = calloc(no ? no : 1, sizeof *an->status);
-    an->rejections = calloc(an->max_rejections ? an->max_rejections : 1,
-                            sizeof *an->rejections);
+    an->rejections = NULL;   /* grown as snooping rejects (cairn_analyse) */
     return an->sd_e && an->sd_n && an->sd_h && an->major && an->minor && an->azimuth &&
-                   an->h_interval && an->cov && an->axes3 && an->dirs3 && an->r && an->w &&
-                   an->mdb && an->nabla && an->tau && an->external && an->status &&
-                   an->rejections
+                   an->h_interval && an->cov && (!three || (an->axes3 && an->dirs3)) && an->r && an->w &&
+                   an->mdb && an->nabla && (an->tau || !an->scale_aposteriori) &&
+                   an->external && an->status
                ? 0 : -1;
 }
 
@@ -112,7 +116,9 @@ static int test_observations(cairn_analysis *an, const cairn_qa_engine *eg,
     double crit = tau ? an->taucrit : an->wcrit;
     an->nflagged = an->nunchecked = 0;
     for (size_t i = 0; i < an->nobs; i++) {
-        an->w[i] = an->mdb[i] = an->nabla[i] = an->tau[i] = an->r[i] = NAN;
+        an->w[i] = an->mdb[i] = an->nabla[i] = an->r[i] = NAN;
+        if (an->tau)
+            an->tau[i] = NAN;
         an->external[i] = NAN;
         if (eg->out[i]) {
             an->status[i] = CAIRN_OBS_REJECTED;
@@ -216,7 +222,7 @@ static long next_rejection(const cairn_analysis *an)
     for (size_t i = 0; i < an->nobs; i++) {
         if (an->status[i] != CAIRN_OBS_FLAGGED)
             continue;
-        double s = fabs(isfinite(an->tau[i]) ? an->tau[i] : an->w[i]);
+        double s = fabs(an->tau && isfinite(an->tau[i]) ? an->tau[i] : an->w[i]);
         if (s > bs) {
             bs = s;
             best = (long)i;
@@ -292,15 +298,9 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
                              ? (size_t)floor(frac * (double)adj->nobs + 1e-9) : 0;
     cairn_qa_engine eg;
     cairn_selinv *Z = NULL;
-    size_t *pick = NULL;
+    size_t *pick = NULL, npick_cap = 0, nrej_cap = 0;
     int rc;
     memset(&eg, 0, sizeof eg);
-    if (an->max_rejections &&
-        !(pick = malloc(an->max_rejections * sizeof *pick))) {
-        cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory");
-        rc = CAIRN_SOLVE_ENOMEM;
-        goto fail;
-    }
     if (alloc_analysis(an, adj->net->nmarks, adj->nobs)) {
         cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory");
         rc = CAIRN_SOLVE_ENOMEM;
@@ -318,11 +318,22 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
         if (opt->snoop != CAIRN_SNOOP_ITERATE)
             break;
         size_t k = 0;
-        if (an->nrejections >= an->max_rejections)
+        if (an->nrejections >= an->max_rejections) {
             an->reject_limit_hit = next_rejection(an) >= 0;
-        else
-            k = cairn_qa_next_rejections(an, adj->prob, adj->net->nmarks,
-                                         an->max_rejections - an->nrejections, pick);
+        } else if (an->nflagged > 0) {
+            /* at most the flagged ones go: sized by them, not by the limit */
+            size_t room = an->max_rejections - an->nrejections;
+            size_t nfl = (size_t)an->nflagged;
+            size_t want = nfl < room ? nfl : room;
+            if (cairn_grow((void **)&pick, &npick_cap, want, sizeof *pick) ||
+                cairn_grow((void **)&an->rejections, &nrej_cap, an->nrejections + want,
+                           sizeof *an->rejections)) {
+                cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory");
+                rc = CAIRN_SOLVE_ENOMEM;
+                goto fail;
+            }
+            k = cairn_qa_next_rejections(an, adj->prob, adj->net->nmarks, want, pick);
+        }
         if (!k && !eg.factor_at_solution) {
             /* The tests just made used the factor of the last round's
              * starting point: right for choosing rejections (the solution
@@ -343,7 +354,7 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
             rj->obs = i;
             rj->round = an->snoop_rounds + 1;
             rj->w = an->w[i];
-            rj->tau = an->tau[i];
+            rj->tau = an->tau ? an->tau[i] : NAN;
             rj->r = an->r[i];
             rj->nabla = an->nabla[i];
         }

@@ -24,7 +24,6 @@ typedef struct {
     const int *ri;          /* unknown of each entry */
     double *rc;             /* coefficient of each entry at the current state */
     size_t *own_rp;         /* the empty rows' rp, when owned */
-    double *wt;             /* 1/σ², 0 for a rejected observation */
     unsigned char *out;     /* 1: rejected */
     double *e, *nn, *h, *omega;  /* local state (e, n minus the origin) */
     cairn_state st;

@@ -54,7 +54,7 @@ void cairn_qa_marks(cairn_analysis *an, const cairn_selinv *Z)
                 an->azimuth[m] = el.azimuth;
             }
         }
-        if (ue >= 0 && un >= 0 && uh >= 0) {
+        if (ue >= 0 && un >= 0 && uh >= 0 && an->axes3) {
             double b[9] = {c[0], c[1], c[2], c[1], c[3], c[4], c[2], c[4], c[5]};
             double ax[3], dir[9];
             if (cairn_ellipsoid3(b, an->k3, ax, dir) == 0) {

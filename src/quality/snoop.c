@@ -91,6 +91,14 @@ static const cairn_obs *local_obs(const cairn_adjustment *adj, size_t i, cairn_o
     return tmp;
 }
 
+/* 1/σ² of observation i at the last linearisation (adj->sigma), 0 when
+ * rejected: computed where needed, not stored (8 bytes per observation). */
+static double weight(const cairn_qa_engine *eg, size_t i)
+{
+    double sig = eg->adj->sigma[i];
+    return eg->out[i] ? 0.0 : 1.0 / (sig * sig);
+}
+
 /* Linearise observation i at the engine's state: the coefficients of its
  * row, its σ and weight (0 when rejected), computed value and residual
  * into adj; *psig gets σ. */
@@ -127,7 +135,6 @@ static int linearise_one(cairn_qa_engine *eg, size_t i, double *psig, cairn_erro
     adj->computed[i] = lin.value;
     adj->residual[i] = cairn_obs_residual(o, lin.value);
     adj->sigma[i] = sig;
-    eg->wt[i] = eg->out[i] ? 0.0 : 1.0 / (sig * sig);
     *psig = sig;
     return 0;
 }
@@ -148,7 +155,7 @@ static int linearise(cairn_qa_engine *eg, double *pvtpv, double *pminlen, double
         if (eg->out[i])
             continue;
         double v = adj->residual[i];
-        f += eg->wt[i] * v * v;
+        f += v * v / (sig * sig);
         if (cairn_obs_kind_angular(adj->prob->obs[i].kind)) {
             if (sig < minang)
                 minang = sig;
@@ -184,13 +191,12 @@ int cairn_qa_engine_init(cairn_qa_engine *eg, cairn_adjustment *adj, cairn_error
         eg->ri = NULL;
         eg->rc = NULL;
     }
-    eg->wt = calloc(no, sizeof *eg->wt);
     eg->out = calloc(no, 1);
     eg->e = calloc(nm, sizeof *eg->e);
     eg->nn = calloc(nm, sizeof *eg->nn);
     eg->h = calloc(nm, sizeof *eg->h);
     eg->omega = calloc(ns, sizeof *eg->omega);
-    if (!eg->wt || !eg->out || !eg->e || !eg->nn || !eg->h || !eg->omega)
+    if (!eg->out || !eg->e || !eg->nn || !eg->h || !eg->omega)
         return oom(err);
     eg->st.e = eg->e;
     eg->st.n = eg->nn;
@@ -231,7 +237,6 @@ int cairn_qa_engine_init(cairn_qa_engine *eg, cairn_adjustment *adj, cairn_error
 void cairn_qa_engine_clear(cairn_qa_engine *eg)
 {
     free(eg->own_rp);
-    free(eg->wt);
     free(eg->out);
     free(eg->e);
     free(eg->nn);
@@ -272,7 +277,7 @@ static int factorise(cairn_qa_engine *eg, cairn_error *err)
     double *Nx = N->x;
     memset(Nx, 0, (size_t)Np[eg->n] * sizeof *Nx);
     for (size_t i = 0; i < eg->nobs; i++) {
-        double wi = eg->wt[i];
+        double wi = weight(eg, i);
         if (wi == 0)
             continue;
         size_t p0 = eg->rp[i], p1 = eg->rp[i + 1];
@@ -341,7 +346,7 @@ static void rhs(const cairn_qa_engine *eg, double *b)
 {
     memset(b, 0, (size_t)eg->n * sizeof *b);
     for (size_t i = 0; i < eg->nobs; i++) {
-        double pv = eg->wt[i] * eg->adj->residual[i];
+        double pv = weight(eg, i) * eg->adj->residual[i];
         if (pv == 0)
             continue;
         for (size_t k = eg->rp[i]; k < eg->rp[i + 1]; k++)
@@ -355,7 +360,7 @@ static void residual_nx(const cairn_qa_engine *eg, const double *x, const double
 {
     memcpy(d, b, (size_t)eg->n * sizeof *d);
     for (size_t i = 0; i < eg->nobs; i++) {
-        double wi = eg->wt[i];
+        double wi = weight(eg, i);
         if (wi == 0)
             continue;
         double ax = 0;
@@ -426,7 +431,6 @@ int cairn_qa_engine_reject_many(cairn_qa_engine *eg, const size_t *idx, size_t k
         if (idx[j] >= eg->nobs || eg->out[idx[j]])
             return internal(err, "rejecting an observation twice");
         eg->out[idx[j]] = 1;
-        eg->wt[idx[j]] = 0;
     }
     double *y = calloc(3 * nv, sizeof *y);
     if (!y)

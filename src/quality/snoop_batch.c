@@ -122,7 +122,7 @@ size_t cairn_qa_next_rejections(const cairn_analysis *an, const cairn_problem *p
         for (size_t i = 0; i < an->nobs; i++) {
             if (an->status[i] != CAIRN_OBS_FLAGGED)
                 continue;
-            double s = fabs(isfinite(an->tau[i]) ? an->tau[i] : an->w[i]);
+            double s = fabs(an->tau && isfinite(an->tau[i]) ? an->tau[i] : an->w[i]);
             if (s > bs) {
                 bs = s;
                 best = i;
@@ -136,7 +136,7 @@ size_t cairn_qa_next_rejections(const cairn_analysis *an, const cairn_problem *p
     for (size_t i = 0; i < an->nobs; i++)
         if (an->status[i] == CAIRN_OBS_FLAGGED) {
             c[nc].obs = i;
-            c[nc].score = fabs(isfinite(an->tau[i]) ? an->tau[i] : an->w[i]);
+            c[nc].score = fabs(an->tau && isfinite(an->tau[i]) ? an->tau[i] : an->w[i]);
             nc++;
         }
     qsort(c, nc, sizeof *c, by_score_desc);

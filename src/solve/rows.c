@@ -82,7 +82,7 @@ int cairn_rows_build(const cairn_adjustment *adj, cairn_rows *rows)
             if (!nu)
                 goto oom;
             rows->unk = nu;
-            unsigned *np = realloc(rows->par, ncap * sizeof *np);
+            uint16_t *np = realloc(rows->par, ncap * sizeof *np);
             if (!np)
                 goto oom;
             rows->par = np;
@@ -102,7 +102,7 @@ int cairn_rows_build(const cairn_adjustment *adj, cairn_rows *rows)
                 rows->par[k] = 0;
                 k++;
             }
-            rows->par[q] |= 1u << par;
+            rows->par[q] = (uint16_t)(rows->par[q] | 1u << par);
         }
     }
     rows->ptr[p->nobs] = k;

@@ -3,6 +3,8 @@
 #ifndef CAIRN_SOLVE_INT_H
 #define CAIRN_SOLVE_INT_H
 
+#include <stdint.h>
+
 #include "cairn/solve.h"
 
 /* ---- rows.c: which unknowns an observation touches -------------------- */
@@ -24,10 +26,11 @@ int cairn_solve_par_mark(const cairn_obs *o, int par, unsigned *pcomp);
 typedef struct {
     size_t *ptr;       /* nobs + 1 */
     int *unk;
-    unsigned *par;
+    uint16_t *par;     /* bit mask of the CAIRN_NPAR local parameters */
     double *coef;      /* filled by cairn_solve_fill_row */
     size_t nent;
 } cairn_rows;
+_Static_assert(CAIRN_NPAR <= 16, "cairn_rows.par holds one bit per local parameter");
 
 int cairn_rows_build(const cairn_adjustment *adj, cairn_rows *rows);
 void cairn_rows_clear(cairn_rows *rows);
