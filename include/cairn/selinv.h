@@ -78,8 +78,9 @@ int cairn_selinv_compute(const cholmod_factor *L, cholmod_common *cc,
  * (L->x), which saves one double per entry of L (300 MB at 10^5 marks).
  * Afterwards L holds no factor: it must not be used for a solve, a
  * selected inverse or anything else numeric until it is refactorised
- * (cholmod_factorize into it overwrites Z: free Z first). Z borrows L->x;
- * cairn_selinv_free(Z) leaves it to L, and Z must be freed before L is
+ * (cholmod_factorize into it overwrites Z: free Z first). Z borrows L->x
+ * and the row lists L->s;
+ * cairn_selinv_free(Z) leaves them to L, and Z must be freed before L is
  * freed or refactorised. A failure other than EINVAL leaves L's values
  * partly overwritten. Otherwise as cairn_selinv_compute.
  */

@@ -46,7 +46,23 @@ static double *nans(size_t n)
     return a;
 }
 
-static int alloc_analysis(cairn_analysis *an, size_t nm, size_t no)
+/* The per-observation arrays the tests of every round fill. */
+static int alloc_tests(cairn_analysis *an, size_t no)
+{
+    an->r = nans(no); an->w = nans(no); an->mdb = nans(no); an->nabla = nans(no);
+    /* τ only with the variance factor estimated: 8 bytes per observation */
+    an->tau = an->scale_aposteriori ? nans(no) : NULL;
+    an->status = calloc(no ? no : 1, sizeof *an->status);
+    an->rejections = NULL;   /* grown as snooping rejects (cairn_analyse) */
+    return an->r && an->w && an->mdb && an->nabla &&
+                   (an->tau || !an->scale_aposteriori) && an->status
+               ? 0 : -1;
+}
+
+/* The arrays only the final precision fills (per mark, and external
+ * reliability): allocated after snooping, so that they do not add to the
+ * memory held through its factorisations. */
+static int alloc_precision(cairn_analysis *an, size_t nm, size_t no)
 {
     an->sd_e = nans(nm); an->sd_n = nans(nm); an->sd_h = nans(nm);
     an->major = nans(nm); an->minor = nans(nm); an->azimuth = nans(nm);
@@ -55,16 +71,10 @@ static int alloc_analysis(cairn_analysis *an, size_t nm, size_t no)
     int three = an->adj->prob->plane && an->adj->prob->heights;
     an->axes3 = three ? nans(3 * nm) : NULL;
     an->dirs3 = three ? nans(9 * nm) : NULL;
-    an->r = nans(no); an->w = nans(no); an->mdb = nans(no); an->nabla = nans(no);
-    /* τ only with the variance factor estimated: 8 bytes per observation */
-    an->tau = an->scale_aposteriori ? nans(no) : NULL;
     an->external = nans(no);
-    an->status = calloc(no ? no : 1, sizeof *an->status);
-    an->rejections = NULL;   /* grown as snooping rejects (cairn_analyse) */
     return an->sd_e && an->sd_n && an->sd_h && an->major && an->minor && an->azimuth &&
-                   an->h_interval && an->cov && (!three || (an->axes3 && an->dirs3)) && an->r && an->w &&
-                   an->mdb && an->nabla && (an->tau || !an->scale_aposteriori) &&
-                   an->external && an->status
+                   an->h_interval && an->cov && (!three || (an->axes3 && an->dirs3)) &&
+                   an->external
                ? 0 : -1;
 }
 
@@ -119,7 +129,6 @@ static int test_observations(cairn_analysis *an, const cairn_qa_engine *eg,
         an->w[i] = an->mdb[i] = an->nabla[i] = an->r[i] = NAN;
         if (an->tau)
             an->tau[i] = NAN;
-        an->external[i] = NAN;
         if (eg->out[i]) {
             an->status[i] = CAIRN_OBS_REJECTED;
             continue;
@@ -301,7 +310,7 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
     size_t *pick = NULL, npick_cap = 0, nrej_cap = 0;
     int rc;
     memset(&eg, 0, sizeof eg);
-    if (alloc_analysis(an, adj->net->nmarks, adj->nobs)) {
+    if (alloc_tests(an, adj->nobs)) {
         cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory");
         rc = CAIRN_SOLVE_ENOMEM;
         goto fail;
@@ -370,6 +379,11 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
     an->t_factorise = eg.t_factorise;
     for (size_t k = 0; k < an->nrejections; k++)
         an->nabla[an->rejections[k].obs] = an->rejections[k].nabla;
+    if (alloc_precision(an, adj->net->nmarks, adj->nobs)) {
+        cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory");
+        rc = CAIRN_SOLVE_ENOMEM;
+        goto fail;
+    }
     double tp = cairn_qa_now();
     if (Z) {
         external(an, &eg, Z);

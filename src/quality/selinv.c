@@ -68,7 +68,7 @@ struct cairn_selinv {
                        leading dimension = that supernode's row count */
     int *colsuper;  /* n: supernode holding each permuted column */
     int *pinv;      /* n: permuted position of each original unknown */
-    int x_borrowed; /* 1: x is the factor's value array (in-place form) */
+    int x_borrowed; /* 1: x and s are the factor's arrays (in-place form) */
 };
 
 /* ---------------------------------------------------------------- memory */
@@ -94,7 +94,7 @@ void cairn_selinv_free(cairn_selinv **pZ)
     SuiteSparse_free(Z->super);
     SuiteSparse_free(Z->pi);
     SuiteSparse_free(Z->px);
-    SuiteSparse_free(Z->s);
+    if (!Z->x_borrowed) SuiteSparse_free(Z->s);
     if (!Z->x_borrowed) SuiteSparse_free(Z->x);
     SuiteSparse_free(Z->colsuper);
     SuiteSparse_free(Z->pinv);
@@ -106,7 +106,7 @@ void cairn_selinv_free(cairn_selinv **pZ)
  * super and perm (perm NULL means the identity).  The caller fills super,
  * pi, px and s before calling finish_index(). */
 static int alloc_handle(int n, int nsuper, size_t ssize, size_t xsize,
-                        double *borrow_x, cairn_selinv **pZ)
+                        double *borrow_x, int *borrow_s, cairn_selinv **pZ)
 {
     cairn_selinv *Z = xcalloc(1, sizeof *Z);
     if (Z == NULL) return CAIRN_SELINV_ENOMEM;
@@ -115,8 +115,8 @@ static int alloc_handle(int n, int nsuper, size_t ssize, size_t xsize,
     Z->super = xmalloc((size_t)nsuper + 1, sizeof *Z->super);
     Z->pi = xmalloc((size_t)nsuper + 1, sizeof *Z->pi);
     Z->px = xmalloc((size_t)nsuper + 1, sizeof *Z->px);
-    Z->s = xmalloc(ssize, sizeof *Z->s);
     Z->x_borrowed = borrow_x != NULL;
+    Z->s = borrow_x ? borrow_s : xmalloc(ssize, sizeof *Z->s);
     Z->x = borrow_x ? borrow_x : xcalloc(xsize, sizeof *Z->x);
     Z->colsuper = xmalloc((size_t)n, sizeof *Z->colsuper);
     Z->pinv = xmalloc((size_t)n, sizeof *Z->pinv);
@@ -159,7 +159,7 @@ int cairn_selinv_columns_int(int n, const int *perm, const int *colp,
     for (j = 0; j < n; j++)
         if (colp[j + 1] <= colp[j] || rowi[colp[j]] != j)
             return CAIRN_SELINV_EINVAL;
-    st = alloc_handle(n, n, (size_t)colp[n], (size_t)colp[n], NULL, &Z);
+    st = alloc_handle(n, n, (size_t)colp[n], (size_t)colp[n], NULL, NULL, &Z);
     if (st != 0) return st;
     for (j = 0; j <= n; j++) {
         Z->super[j] = j;
@@ -416,14 +416,16 @@ static int compute(const cholmod_factor *L, cholmod_common *cc, int inplace,
     Ls = L->s;
 
     st = alloc_handle((int)n, nsuper, L->ssize, L->xsize,
-                      inplace ? (double *)L->x : NULL, &Z);
+                      inplace ? (double *)L->x : NULL, inplace ? (int *)L->s : NULL,
+                      &Z);
     if (st != 0) return st;
     for (sn = 0; sn <= nsuper; sn++) {
         Z->super[sn] = Lsuper[sn];
         Z->pi[sn] = Lpi[sn];
         Z->px[sn] = (size_t)Lpx[sn];
     }
-    memcpy(Z->s, Ls, L->ssize * sizeof *Z->s);
+    if (!inplace)
+        memcpy(Z->s, Ls, L->ssize * sizeof *Z->s);
     st = finish_index(Z, L->Perm);
     if (st != 0) goto fail;
 
