@@ -10,6 +10,7 @@
 
 #include "cairn/output.h"
 #include "fmt.h"
+#include "jobs.h"
 
 #define LEN_DEC 7
 #define DEG_DEC 10
@@ -206,32 +207,63 @@ void cairn_analysis_quality(const cairn_analysis *an, cairn_mark_quality *pmq,
     }
 }
 
+typedef struct {
+    const cairn_adjustment *adj;
+    const cairn_analysis *an;
+    cairn_mark_quality mq;
+    cairn_obs_quality oq;
+} results_ctx;
+
+static int job_marks(FILE *f, void *c)
+{
+    return cairn_write_marks_csv(f, ((results_ctx *)c)->adj, &((results_ctx *)c)->mq);
+}
+
+static int job_obs(FILE *f, void *c)
+{
+    return cairn_write_observations_csv(f, ((results_ctx *)c)->adj, &((results_ctx *)c)->oq);
+}
+
+static int job_xml(FILE *f, void *c)
+{
+    return cairn_write_results_xml(f, ((results_ctx *)c)->adj, ((results_ctx *)c)->an);
+}
+
 int cairn_write_results(const char *dir, const cairn_adjustment *adj,
                         const cairn_analysis *an, unsigned formats,
                         cairn_error *err)
 {
-    cairn_mark_quality mq;
-    cairn_obs_quality oq;
-    cairn_analysis_quality(an, &mq, &oq);
+    results_ctx ctx = {adj, an, {0}, {0}};
+    cairn_analysis_quality(an, &ctx.mq, &ctx.oq);
     cairn_outset *set = cairn_outset_new(dir, err);
     if (!set)
         return -1;
-    int rc = 0;
-    if (formats & CAIRN_FORMAT_CSV) {
-        FILE *fm = cairn_outset_open(set, "marks.csv", err);
-        FILE *fo = fm ? cairn_outset_open(set, "observations.csv", err) : NULL;
-        if (!fm || !fo)
+    /* results.xml first: the largest, it gets the second thread (jobs.c) */
+    static const struct {
+        unsigned fmt;
+        const char *name;
+        int (*write)(FILE *, void *);
+    } order[] = {{CAIRN_FORMAT_XML, "results.xml", job_xml},
+                 {CAIRN_FORMAT_CSV, "marks.csv", job_marks},
+                 {CAIRN_FORMAT_CSV, "observations.csv", job_obs}};
+    cairn_write_job jobs[3];
+    int n = 0, rc = 0;
+    for (size_t k = 0; k < 3 && rc == 0; k++) {
+        if (!(formats & order[k].fmt))
+            continue;
+        FILE *f = cairn_outset_open(set, order[k].name, err);
+        if (!f)
             rc = -1;
-        else if (cairn_write_marks_csv(fm, adj, &mq) ||
-                 cairn_write_observations_csv(fo, adj, &oq))
-            rc = cairn_error_add(err, CAIRN_SEV_ERROR, dir, 0, 0, "cannot write the results");
+        else
+            jobs[n++] = (cairn_write_job){order[k].write, &ctx, f, 0};
     }
-    if (rc == 0 && (formats & CAIRN_FORMAT_XML)) {
-        FILE *fx = cairn_outset_open(set, "results.xml", err);
-        if (!fx)
-            rc = -1;
-        else if (cairn_write_results_xml(fx, adj, an))
-            rc = cairn_error_add(err, CAIRN_SEV_ERROR, dir, 0, 0, "cannot write results.xml");
+    if (rc == 0 && cairn_output_run(jobs, n)) {
+        for (int k = 0; k < n; k++)
+            for (size_t q = 0; q < 3; q++)
+                if (jobs[k].status && jobs[k].write == order[q].write)
+                    cairn_error_add(err, CAIRN_SEV_ERROR, dir, 0, 0, "cannot write %s",
+                                    order[q].name);
+        rc = -1;
     }
     if (rc == 0)
         rc = cairn_outset_commit(set, err);

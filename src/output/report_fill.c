@@ -14,6 +14,7 @@
 #include <unistd.h>
 
 #include "cairn/output.h"
+#include "jobs.h"
 
 #define WHERE_MAX (CAIRN_ID_MAX + 4)
 
@@ -441,6 +442,33 @@ nomem:
 
 /* ---- the result set ----------------------------------------------- */
 
+/* What the writers of one result set read. */
+typedef struct {
+    const cairn_adjustment *adj;
+    const cairn_analysis *an;
+    const cairn_diagnoses *dg;
+    const cairn_report *rep;
+    cairn_mark_quality mq;
+    cairn_obs_quality oq;
+} set_ctx;
+
+static int job_txt(FILE *f, void *c) { return cairn_report_write_txt(((set_ctx *)c)->rep, f); }
+static int job_html(FILE *f, void *c) { return cairn_report_write_html(((set_ctx *)c)->rep, f); }
+static int job_marks(FILE *f, void *c)
+{
+    return cairn_write_marks_csv(f, ((set_ctx *)c)->adj, &((set_ctx *)c)->mq);
+}
+static int job_obs(FILE *f, void *c)
+{
+    return cairn_write_observations_csv(f, ((set_ctx *)c)->adj, &((set_ctx *)c)->oq);
+}
+static int job_xml(FILE *f, void *c)
+{
+    const set_ctx *x = c;
+    return cairn_write_results_xml_diag(f, x->adj, x->an, x->dg);
+}
+
+
 int cairn_write_result_set(const char *dir, const cairn_adjustment *adj,
                            const cairn_analysis *an, const cairn_diagnoses *dg,
                            const cairn_report *rep, unsigned formats, unsigned flags,
@@ -475,40 +503,40 @@ int cairn_write_result_set(const char *dir, const cairn_adjustment *adj,
             return cairn_error_add(err, CAIRN_SEV_ERROR, path, 0, 0,
                                    "exists and is not a regular file; cannot replace it");
     }
-    cairn_mark_quality mq;
-    cairn_obs_quality oq;
-    cairn_analysis_quality(an, &mq, &oq);
+    set_ctx ctx = {adj, an, dg, rep, {0}, {0}};
+    cairn_analysis_quality(an, &ctx.mq, &ctx.oq);
     cairn_outset *set = cairn_outset_new(dir, err);
     if (!set)
         return -1;
-    int rc = 0;
-    FILE *f;
-    if (formats & CAIRN_FORMAT_TXT) {
-        if (!(f = cairn_outset_open(set, "report.txt", err)))
+    /* results.xml first: the largest, it gets the second thread */
+    static const struct {
+        unsigned fmt;
+        const char *name;
+        int (*write)(FILE *, void *);
+    } order[] = {{CAIRN_FORMAT_XML, "results.xml", job_xml},
+                 {CAIRN_FORMAT_TXT, "report.txt", job_txt},
+                 {CAIRN_FORMAT_HTML, "report.html", job_html},
+                 {CAIRN_FORMAT_CSV, "marks.csv", job_marks},
+                 {CAIRN_FORMAT_CSV, "observations.csv", job_obs}};
+    cairn_write_job jobs[sizeof order / sizeof order[0]];
+    int n = 0, rc = 0;
+    for (size_t k = 0; k < sizeof order / sizeof order[0] && rc == 0; k++) {
+        if (!(formats & order[k].fmt))
+            continue;
+        FILE *f = cairn_outset_open(set, order[k].name, err);
+        if (!f) {
             rc = -1;
-        else if (cairn_report_write_txt(rep, f))
-            rc = cairn_error_add(err, CAIRN_SEV_ERROR, dir, 0, 0, "cannot write report.txt");
+            break;
+        }
+        jobs[n++] = (cairn_write_job){order[k].write, &ctx, f, 0};
     }
-    if (rc == 0 && (formats & CAIRN_FORMAT_HTML)) {
-        if (!(f = cairn_outset_open(set, "report.html", err)))
-            rc = -1;
-        else if (cairn_report_write_html(rep, f))
-            rc = cairn_error_add(err, CAIRN_SEV_ERROR, dir, 0, 0, "cannot write report.html");
-    }
-    if (rc == 0 && (formats & CAIRN_FORMAT_CSV)) {
-        FILE *fm = cairn_outset_open(set, "marks.csv", err);
-        FILE *fo = fm ? cairn_outset_open(set, "observations.csv", err) : NULL;
-        if (!fm || !fo)
-            rc = -1;
-        else if (cairn_write_marks_csv(fm, adj, &mq) ||
-                 cairn_write_observations_csv(fo, adj, &oq))
-            rc = cairn_error_add(err, CAIRN_SEV_ERROR, dir, 0, 0, "cannot write the CSV files");
-    }
-    if (rc == 0 && (formats & CAIRN_FORMAT_XML)) {
-        if (!(f = cairn_outset_open(set, "results.xml", err)))
-            rc = -1;
-        else if (cairn_write_results_xml_diag(f, adj, an, dg))
-            rc = cairn_error_add(err, CAIRN_SEV_ERROR, dir, 0, 0, "cannot write results.xml");
+    if (rc == 0 && cairn_output_run(jobs, n)) {
+        for (int k = 0; k < n; k++)
+            for (size_t q = 0; q < sizeof order / sizeof order[0]; q++)
+                if (jobs[k].status && jobs[k].write == order[q].write)
+                    cairn_error_add(err, CAIRN_SEV_ERROR, dir, 0, 0, "cannot write %s",
+                                    order[q].name);
+        rc = -1;
     }
     if (rc == 0)
         rc = cairn_outset_commit(set, err);
