@@ -38,7 +38,7 @@ OPT     ?= -O2 -g
 CFLAGS  ?= $(OPT)
 ALL_CFLAGS = -std=c11 -D_POSIX_C_SOURCE=200809L $(WARN) $(CFLAGS) -Iinclude \
              $(CHOLMOD_CFLAGS) $(PKG_CFLAGS) $(MOREFLAGS) -MMD -MP
-LDLIBS_ALL = $(CHOLMOD_LIBS) $(PKG_LIBS) -lm
+LDLIBS_ALL = $(CHOLMOD_LIBS) $(PKG_LIBS) -lm -pthread
 
 STAGES   = core input model solve quality output
 LIB_SRC  = $(sort $(foreach s,$(STAGES),$(wildcard src/$(s)/*.c)))

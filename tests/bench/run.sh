@@ -15,7 +15,7 @@ build=${BUILD:-$top/build}
 out=$build/bench
 mkdir -p "$out"
 cc=${CC:-gcc}
-libs="-lcholmod -lsuitesparseconfig $(pkg-config --libs openblas lapacke libxml-2.0 gsl nettle | sed 's/-lgslcblas//') -lm"
+libs="-lcholmod -lsuitesparseconfig $(pkg-config --libs openblas lapacke libxml-2.0 gsl nettle | sed 's/-lgslcblas//') -lm -pthread"
 cflags="-std=c11 -D_POSIX_C_SOURCE=200809L -O2 -I$top/include -I/usr/include/suitesparse $(pkg-config --cflags openblas lapacke libxml-2.0)"
 $cc -std=c11 -O2 -Wall -Wextra -o "$out/gen" "$top/tests/bench/gen.c" -lm
 # shellcheck disable=SC2086

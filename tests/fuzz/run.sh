@@ -49,7 +49,7 @@ cflags="-std=c11 -D_POSIX_C_SOURCE=200809L -O1 -g -fno-omit-frame-pointer \
  -Wall -Wextra -Werror -pedantic -Wshadow -Wstrict-prototypes \
  -Wmissing-prototypes -Wfloat-conversion -Wno-unused-parameter \
  -Iinclude -I/usr/include/suitesparse $pkg_cflags"
-libs="$pkg_libs -lcholmod -lsuitesparseconfig -lm"
+libs="$pkg_libs -lcholmod -lsuitesparseconfig -lm -pthread"
 # The library sources are compiled into the harness binaries. The
 # loader's own stat() and fopen() references are renamed to the sandbox
 # guards of fuzz_common.c (only in these objects: libFuzzer's own file
