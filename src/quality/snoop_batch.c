@@ -13,7 +13,13 @@
  * compact network that neighbourhood covers everything and the rule is
  * exactly Baarda's one-at-a-time; well-separated blunders go in the same
  * round, with the result one-at-a-time rounds would give them. The
- * two-line radius is common practice for separating outliers, no source. */
+ * two-line radius is common practice for separating outliers, no source.
+ * Measured on the 10^4-mark bench network (gen --kind plane --seed 7,
+ * 140 086 observations, 2026-12-02): strict one-at-a-time rejects 148
+ * observations in 148 rounds; this rule rejects those 148 and 2 more in 3
+ * rounds; a one-line radius would take 2 rounds but keep one of the 148
+ * and reject 2 others. At 10^5 marks the one-line radius saves one of 4
+ * rounds (10 % of the time) and changes 4 of 1 395 rejections. */
 #include <math.h>
 #include <stdlib.h>
 
