@@ -448,8 +448,10 @@ int cairn_analysis_alarm(const cairn_analysis *an);
  *  cleared. */
 typedef struct {
     size_t n;                /**< entries: the problem's observations */
-    cairn_diagnosis *d;      /**< n entries, problem order; kind NONE and an empty
-                                  note where no diagnosis was made */
+    cairn_diagnosis *d;      /**< n entries, problem order; where no diagnosis was
+                                  made (made[i] == 0) the entry is all zero (kind
+                                  NONE, empty note; mark and numbers 0, not -1 and
+                                  NAN): read d[i] only where made[i] */
     unsigned char *made;     /**< n entries: 1 where the observation was diagnosed
                                   (status flagged or rejected) */
     size_t nmade;            /**< how many were diagnosed */
