@@ -290,26 +290,6 @@ int cairn_solver_factorise(cairn_solver *s, double mu, const cairn_adjustment *a
     return check_pivots(s, s->ndiag, mu, adj, err);
 }
 
-int cairn_solver_solve(cairn_solver *s, double *dx, cairn_error *err)
-{
-    double t0 = cairn_solve_now();
-    cholmod_dense *X = cholmod_solve(CHOLMOD_A, s->L, s->b, &s->cc);
-    s->t.solve += cairn_solve_now() - t0;
-    s->t.nsolve++;
-    if (!X || s->cc.status < 0) {
-        cholmod_free_dense(&X, &s->cc);
-        cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
-                        s->cc.status == CHOLMOD_OUT_OF_MEMORY
-                            ? "out of memory solving the normal equations"
-                            : "internal error: CHOLMOD solve failed");
-        return s->cc.status == CHOLMOD_OUT_OF_MEMORY ? CAIRN_SOLVE_ENOMEM
-                                                     : CAIRN_SOLVE_EINTERNAL;
-    }
-    memcpy(dx, X->x, (size_t)s->n * sizeof *dx);
-    cholmod_free_dense(&X, &s->cc);
-    return 0;
-}
-
 /* X = F⁻¹ B on the factor at hand. */
 static cholmod_dense *fsolve(cairn_solver *s, cholmod_dense *B, cairn_error *err)
 {
@@ -326,6 +306,17 @@ static cholmod_dense *fsolve(cairn_solver *s, cholmod_dense *B, cairn_error *err
         return NULL;
     }
     return X;
+}
+
+int cairn_solver_solve(cairn_solver *s, double *dx, cairn_error *err)
+{
+    cholmod_dense *X = fsolve(s, s->b, err);
+    if (!X)
+        return s->cc.status == CHOLMOD_OUT_OF_MEMORY ? CAIRN_SOLVE_ENOMEM
+                                                     : CAIRN_SOLVE_EINTERNAL;
+    memcpy(dx, X->x, (size_t)s->n * sizeof *dx);
+    cholmod_free_dense(&X, &s->cc);
+    return 0;
 }
 
 static double maxabs(const double *a, int n)

@@ -30,34 +30,32 @@ static double now(void)
     return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
 }
 
-/* Peak resident memory so far, MB (VmHWM of /proc/self/status); NAN if
- * unknown. */
-static double peak_mb(void)
+/* A memory line of /proc/self/status ("VmHWM:" peak, "VmRSS:" now), MB;
+ * NAN if unknown. */
+static double status_mb(const char *key)
 {
     FILE *f = fopen("/proc/self/status", "r");
     char line[256];
-    double hwm = NAN;
+    double mb = NAN;
+    size_t n = strlen(key);
     while (f && fgets(line, sizeof line, f))
-        if (!strncmp(line, "VmHWM:", 6))
-            hwm = atof(line + 6) / 1024.0;
+        if (!strncmp(line, key, n))
+            mb = atof(line + n) / 1024.0;
     if (f)
         fclose(f);
-    return hwm;
+    return mb;
+}
+
+static double peak_mb(void)
+{
+    return status_mb("VmHWM:");
 }
 
 /* Resident and peak memory now, MB, for the stderr memory profile. */
 static void mem_note(const char *where)
 {
-    FILE *f = fopen("/proc/self/status", "r");
-    char line[256];
-    double rss = NAN;
-    while (f && fgets(line, sizeof line, f))
-        if (!strncmp(line, "VmRSS:", 6))
-            rss = atof(line + 6) / 1024.0;
-    if (f)
-        fclose(f);
-    fprintf(stderr, "phases: memory after %-9s rss %6.0f MB, peak %6.0f MB\n", where, rss,
-            peak_mb());
+    fprintf(stderr, "phases: memory after %-9s rss %6.0f MB, peak %6.0f MB\n", where,
+            status_mb("VmRSS:"), peak_mb());
 }
 
 /* Reset the peak to the current resident size (Linux: "5" to

@@ -573,28 +573,46 @@ END_TEST
  * over (iterate.c), the adjustment must reach it. (i) is also the
  * regression test of 2026-12-01: with no length observation the length
  * convergence limit was infinite and P "converged" 1.3 km away. */
+/* What one adjustment of the intersection from (e0, n0) did, after
+ * checking that it reached the exact P = (1050, 2080). */
+typedef struct {
+    int damped, chord, factorisations;
+} intersection_run;
+
+static intersection_run adjust_intersection(double e0, double n0, int halvings, int chord)
+{
+    int p;
+    cairn_net *net = intersection_net(e0, n0, &p);
+    cairn_adjust_options opt;
+    cairn_adjust_options_default(&opt);
+    opt.max_halvings = halvings;
+    opt.chord = chord;
+    opt.max_iterations = 100;
+    cairn_problem *pr = NULL;
+    cairn_adjustment *adj = NULL;
+    char msg[2000];
+    ck_assert_msg(run_opt(net, 0, &opt, &pr, &adj, msg, sizeof msg) == 0, "%s", msg);
+    ck_assert_double_eq_tol(adj->e[p], 1050.0, 1e-7);
+    ck_assert_double_eq_tol(adj->n[p], 2080.0, 1e-7);
+    intersection_run r = {0, 0, 0};
+    for (int i = 0; i < adj->iterations; i++) {
+        r.damped += adj->log[i].mu > 0;
+        r.chord += adj->log[i].chord;
+    }
+    cairn_solve_timing t;
+    cairn_adjustment_timing(adj, &t);
+    r.factorisations = t.nfactorise;
+    done(&net, &pr, &adj);
+    return r;
+}
+
 START_TEST(levenberg_marquardt)
 {
     static const double starts[][2] = {{1050, 1900}, {1200, 1990}, {5000, -3000}};
     for (int halvings = 10; halvings >= 0; halvings -= 10) {
         int damped = 0;
-        for (size_t k = 0; k < sizeof starts / sizeof starts[0]; k++) {
-            int p;
-            cairn_net *net = intersection_net(starts[k][0], starts[k][1], &p);
-            cairn_adjust_options opt;
-            cairn_adjust_options_default(&opt);
-            opt.max_halvings = halvings;
-            opt.max_iterations = 100;
-            cairn_problem *pr = NULL;
-            cairn_adjustment *adj = NULL;
-            char msg[2000];
-            ck_assert_msg(run_opt(net, 0, &opt, &pr, &adj, msg, sizeof msg) == 0, "%s", msg);
-            ck_assert_double_eq_tol(adj->e[p], 1050.0, 1e-7);
-            ck_assert_double_eq_tol(adj->n[p], 2080.0, 1e-7);
-            for (int i = 0; i < adj->iterations; i++)
-                damped += adj->log[i].mu > 0;
-            done(&net, &pr, &adj);
-        }
+        for (size_t k = 0; k < sizeof starts / sizeof starts[0]; k++)
+            damped += adjust_intersection(starts[k][0], starts[k][1], halvings, 1).damped;
         if (halvings == 0)
             ck_assert_msg(damped > 0, "no damped step without backtracking");
     }
@@ -612,24 +630,9 @@ START_TEST(chord_steps)
     int nfact[2] = {0, 0}, nchord[2] = {0, 0};
     for (int chord = 0; chord <= 1; chord++)
         for (size_t k = 0; k < sizeof starts / sizeof starts[0]; k++) {
-            int p;
-            cairn_net *net = intersection_net(starts[k][0], starts[k][1], &p);
-            cairn_adjust_options opt;
-            cairn_adjust_options_default(&opt);
-            opt.chord = chord;
-            opt.max_iterations = 100;
-            cairn_problem *pr = NULL;
-            cairn_adjustment *adj = NULL;
-            char msg[2000];
-            ck_assert_msg(run_opt(net, 0, &opt, &pr, &adj, msg, sizeof msg) == 0, "%s", msg);
-            ck_assert_double_eq_tol(adj->e[p], 1050.0, 1e-7);
-            ck_assert_double_eq_tol(adj->n[p], 2080.0, 1e-7);
-            for (int i = 0; i < adj->iterations; i++)
-                nchord[chord] += adj->log[i].chord;
-            cairn_solve_timing t;
-            cairn_adjustment_timing(adj, &t);
-            nfact[chord] += t.nfactorise;
-            done(&net, &pr, &adj);
+            intersection_run r = adjust_intersection(starts[k][0], starts[k][1], 10, chord);
+            nchord[chord] += r.chord;
+            nfact[chord] += r.factorisations;
         }
     ck_assert_int_eq(nchord[0], 0);
     ck_assert_int_gt(nchord[1], 0);
