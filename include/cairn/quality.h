@@ -401,9 +401,11 @@ enum {
  *  each rejection adj's coordinates, orientations, computed values,
  *  residuals, σ, vtpv, dof and sigma0_sq describe the adjustment without
  *  the rejected observations (the residual of a rejected observation is
- *  its misfit to that solution). adj's own factor is not changed (it
- *  stays that of the first solution); the analysis keeps what it needs.
- *  adj must still hold its CHOLMOD factor (cairn_adjustment_factor).
+ *  its misfit to that solution). adj must still hold its CHOLMOD factor
+ *  (cairn_adjustment_factor): the analysis refactorises into it, computes
+ *  the selected inverse in place over it, and releases it and N at the
+ *  end, success or not (cairn_adjustment_release_cholmod); so an
+ *  adjustment is analysed once.
  *
  *  opt may be NULL for the defaults. Returns 0 and *pan; or a negative
  *  status (CAIRN_SOLVE_* for a failed re-adjustment, CAIRN_ANALYSIS_EINTERNAL)
@@ -434,9 +436,10 @@ int cairn_analysis_alarm(const cairn_analysis *an);
  * Gauss–Newton step. The next round's tests use that factor (made at the
  * round's start), which is good for choosing rejections; before the
  * tests that are reported, the factor is remade at the final solution.
- * The selected inverse is computed in place over the factor, so after
- * cairn_analyse the adjustment's factor holds no factor (snoop.c explains
- * the choices). */
+ * The selected inverse is computed in place over the factor, and
+ * cairn_analyse releases the adjustment's CHOLMOD objects when it has
+ * finished: an adjustment is analysed once (snoop.c explains the
+ * choices). */
 
 /* ------------------------------------------------------------------ */
 /* 8. Diagnoses of an analysis (src/quality/diagnose_all.c)            */

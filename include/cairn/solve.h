@@ -161,18 +161,17 @@ void cairn_adjustment_free(cairn_adjustment **padj);
 
 /** The CHOLMOD factor of the normal matrix N = AᵀPA at the solution
  *  (supernodal LLᵀ, int indices; its Perm maps permuted to original unknown
- *  numbers), or NULL after cairn_adjustment_release_cholmod. After
- *  cairn_analyse its numeric values are a selected inverse (computed in
- *  place): use it for nothing numeric then. */
+ *  numbers), or NULL after cairn_adjustment_release_cholmod, which
+ *  cairn_analyse calls when it has finished (it computes the selected
+ *  inverse in place over the factor). */
 const cholmod_factor *cairn_adjustment_factor(const cairn_adjustment *adj);
 /** The cholmod_common the factor was made with (cholmod_start, int). */
 cholmod_common *cairn_adjustment_common(cairn_adjustment *adj);
 /** The same factor and normal matrix, writable, for the quality stage's
  *  re-adjustments: cairn_analyse refills N on its pattern and refactorises
  *  it into this factor in place (one symbolic analysis, no second factor),
- *  so after snooping has rejected observations N describes the
- *  re-adjusted network; the factor's values end up holding the selected
- *  inverse. NULL after cairn_adjustment_release_cholmod. */
+ *  and releases both when it has finished. NULL after
+ *  cairn_adjustment_release_cholmod. */
 cholmod_factor *cairn_adjustment_factor_rw(cairn_adjustment *adj);
 cholmod_sparse *cairn_adjustment_normal_rw(cairn_adjustment *adj);
 

@@ -280,7 +280,8 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
     }
     if (!adj || (adj->nunknowns > 0 && !cairn_adjustment_factor(adj))) {
         cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
-                        "internal error: the analysis needs the adjustment's factor");
+                        "internal error: the analysis needs the adjustment's factor (an "
+                        "adjustment is analysed once: its factor is used up)");
         return CAIRN_ANALYSIS_EINTERNAL;
     }
     const cairn_options *no = &adj->net->opt;
@@ -407,6 +408,16 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
     cairn_selinv_free(&Z);
     cairn_qa_engine_clear(&eg);
     free(pick);
+    /* The factor now holds a selected inverse (computed in place) and N
+     * is of no further use: release both, so that nothing can mistake
+     * them for a factor (a second cairn_analyse is refused) and their
+     * memory is back before the results are written. */
+    if (cairn_adjustment_release_cholmod(adj) != 0) {
+        cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
+                        "internal error: CHOLMOD memory left allocated after the analysis");
+        cairn_analysis_free(&an);
+        return CAIRN_ANALYSIS_EINTERNAL;
+    }
     *pan = an;
     return 0;
 fail:
@@ -414,6 +425,7 @@ fail:
     cairn_selinv_free(&Z);
     cairn_qa_engine_clear(&eg);
     cairn_analysis_free(&an);
+    (void)cairn_adjustment_release_cholmod(adj);   /* possibly used up: see above */
     return rc;
 }
 

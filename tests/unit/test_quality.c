@@ -184,6 +184,26 @@ START_TEST(flag_mode_flags_only)
 }
 END_TEST
 
+/* The analysis uses up the adjustment's factor (the selected inverse is
+ * computed over it) and releases it: a second analysis of the same
+ * adjustment is refused, not computed from a stale factor. */
+START_TEST(analysed_once)
+{
+    run r;
+    ck_assert_int_eq(run_network(&r, "tests/integration/networks/dirs_dists.cfb", NULL), 0);
+    ck_assert_ptr_null(cairn_adjustment_factor(r.adj));
+    cairn_analysis *again = (cairn_analysis *)1;
+    cairn_error err;
+    cairn_error_init(&err);
+    ck_assert_int_eq(cairn_analyse(r.adj, NULL, &again, &err), CAIRN_ANALYSIS_EINTERNAL);
+    ck_assert_ptr_null(again);
+    ck_assert_int_ge(err.ndiag, 1);
+    ck_assert_ptr_nonnull(strstr(err.diag[0].message, "analysed once"));
+    cairn_error_clear(&err);
+    run_free(&r);
+}
+END_TEST
+
 START_TEST(clean_network_no_alarm)
 {
     run r;
@@ -297,6 +317,7 @@ static Suite *quality_suite(void)
     tcase_add_loop_test(t, iterate_removes_the_planted_blunders, 12, (int)NNET);
     tcase_add_test(t, flag_mode_flags_only);
     tcase_add_test(t, clean_network_no_alarm);
+    tcase_add_test(t, analysed_once);
     tcase_add_test(t, aposteriori_factors);
     tcase_add_loop_test(t, results_xml_validates, 0, (int)NNET);
     tcase_add_test(t, results_xml_escapes_source);
