@@ -49,7 +49,7 @@ LIB_OBJ  = $(LIB_SRC:%.c=$(BUILD)/obj/%.o)
 CLI_OBJ  = $(CLI_SRC:%.c=$(BUILD)/obj/%.o)
 UNIT_BIN = $(UNIT_SRC:tests/unit/%.c=$(BUILD)/tests/%)
 
-.PHONY: all deps check check-unit check-bad check-integration check-asan \
+.PHONY: all deps check check-unit check-bad check-integration check-asan check-threads \
         demo demo-check bench bench-load install uninstall clean man-check test-all \
         check-sanitizers check-valgrind fuzz
 
@@ -91,7 +91,8 @@ deps:
 check: deps
 	$(MAKE) test-all
 
-test-all: all check-unit check-bad check-integration man-check demo-check check-sanitizers
+test-all: all check-unit check-bad check-integration man-check demo-check check-sanitizers \
+          check-threads
 
 # Issue #9: the unit, bad-input and integration tests again under
 # AddressSanitizer + UBSan, and the CLI on the demo under valgrind memcheck
@@ -99,6 +100,12 @@ test-all: all check-unit check-bad check-integration man-check demo-check check-
 check-sanitizers:
 	$(MAKE) BUILD=$(BUILD)/asan CFLAGS="$(ASAN_FLAGS)" check-unit check-bad check-integration
 	$(MAKE) check-valgrind
+
+# The loops on several cores and the writer thread under ThreadSanitizer.
+TSAN_FLAGS = -O1 -g -fsanitize=thread -fno-omit-frame-pointer
+check-threads:
+	$(MAKE) BUILD=$(BUILD)/tsan CFLAGS="$(TSAN_FLAGS)" $(BUILD)/tsan/cairn
+	sh tests/threads/run.sh $(BUILD)/tsan/cairn $(BUILD)/tsan/threads
 
 VALGRIND = valgrind --error-exitcode=99 --leak-check=full --errors-for-leak-kinds=definite -q
 check-valgrind: $(BUILD)/cairn

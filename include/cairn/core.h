@@ -105,6 +105,29 @@ int cairn_grow(void **pbuf, size_t *pcap, size_t need, size_t size);
 char *cairn_strdup(const char *s);
 
 /* ------------------------------------------------------------------ */
+/* Loops over observations on several cores (src/core/parallel.c)      */
+/* ------------------------------------------------------------------ */
+
+/** Largest number of parts cairn_parallel_for splits a loop into. */
+#define CAIRN_PARALLEL_MAX 8
+
+/** How many parts a loop of n independent items should use: one per
+ *  online processor (at most CAIRN_PARALLEL_MAX), but none smaller than
+ *  min_items, so that small networks run on one thread exactly as
+ *  before (the same sums in the same order). At least 1. */
+int cairn_parallel_parts(size_t n, size_t min_items);
+
+/** Run body(ctx, part, lo, hi) for part = 0 .. parts-1 over the
+ *  contiguous ranges lo = n·part/parts .. hi = n·(part+1)/parts: parts
+ *  1.. on threads of their own, part 0 on the caller's, and return when
+ *  all are done. The bodies must only write what belongs to their range
+ *  or to their part (per-part sums, combined by the caller in part order,
+ *  keep a result independent of the timing). When a thread cannot be
+ *  started its part runs on the caller's thread. */
+void cairn_parallel_for(size_t n, int parts,
+                        void (*body)(void *ctx, int part, size_t lo, size_t hi), void *ctx);
+
+/* ------------------------------------------------------------------ */
 /* Units                                                               */
 /* ------------------------------------------------------------------ */
 

@@ -101,6 +101,36 @@ static void factors(cairn_analysis *an)
     }
 }
 
+/* Observations per part below which a loop stays on one thread. */
+#define PAR_MIN 20000
+
+typedef struct {
+    cairn_analysis *an;
+    const cairn_qa_engine *eg;
+    const cairn_selinv *Z;
+} redundancy_ctx;
+
+/* rᵢ into an->r for the observations used (NAN for rejected ones, and
+ * where a Qxx entry is missing: the caller reports that). */
+static void redundancy_part(void *vc, int part, size_t lo, size_t hi)
+{
+    (void)part;
+    redundancy_ctx *c = vc;
+    const cairn_qa_engine *eg = c->eg;
+    for (size_t i = lo; i < hi; i++) {
+        if (eg->out[i]) {
+            c->an->r[i] = NAN;
+            continue;
+        }
+        double sig = c->an->adj->sigma[i], p = 1.0 / (sig * sig);
+        size_t k0 = eg->rp[i];
+        int cnt = (int)(eg->rp[i + 1] - k0);
+        c->an->r[i] = cnt == 0 ? 1.0
+                    : cairn_redundancy(p, eg->rc + k0, eg->ri + k0, cnt, cairn_qa_qxx_get,
+                                       (void *)c->Z);
+    }
+}
+
 /* Redundancy numbers, w (τ), MDB and statuses of the observations used,
  * the global test, and the Σr = dof check. Z is NULL when there are no
  * unknowns (then every r is 1). */
@@ -125,7 +155,12 @@ static int test_observations(cairn_analysis *an, const cairn_qa_engine *eg,
     double s0 = tau ? sqrt(an->variance_factor) : NAN;
     double crit = tau ? an->taucrit : an->wcrit;
     an->nflagged = an->nunchecked = 0;
+    /* the redundancy numbers, the costly part, on several cores */
+    redundancy_ctx rctx = {an, eg, Z};
+    cairn_parallel_for(an->nobs, cairn_parallel_parts(an->nobs, PAR_MIN), redundancy_part,
+                       &rctx);
     for (size_t i = 0; i < an->nobs; i++) {
+        double r = an->r[i];
         an->w[i] = an->mdb[i] = an->nabla[i] = an->r[i] = NAN;
         if (an->tau)
             an->tau[i] = NAN;
@@ -133,12 +168,7 @@ static int test_observations(cairn_analysis *an, const cairn_qa_engine *eg,
             an->status[i] = CAIRN_OBS_REJECTED;
             continue;
         }
-        double sig = adj->sigma[i], p = 1.0 / (sig * sig);
-        size_t k0 = eg->rp[i];
-        int cnt = (int)(eg->rp[i + 1] - k0);
-        double r = cnt == 0 ? 1.0
-                 : cairn_redundancy(p, eg->rc + k0, eg->ri + k0, cnt, cairn_qa_qxx_get,
-                                    (void *)Z);
+        double sig = adj->sigma[i];
         if (!isfinite(r)) {
             cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0,
                             "internal error: a Qxx entry of observation %zu is outside "
@@ -193,10 +223,21 @@ static int test_observations(cairn_analysis *an, const cairn_qa_engine *eg,
  * of the factor, so this needs no solve. The largest shift anywhere in
  * the network would need the whole column Q aᵢᵀ, one solve per
  * observation; we do not make it (DESIGN.md "Performance"). */
-static void external(cairn_analysis *an, const cairn_qa_engine *eg, const cairn_selinv *Z)
+typedef struct {
+    cairn_analysis *an;
+    const cairn_qa_engine *eg;
+    const cairn_selinv *Z;
+} external_ctx;
+
+static void external_part(void *vc, int part, size_t lo, size_t hi)
 {
+    (void)part;
+    external_ctx *c = vc;
+    cairn_analysis *an = c->an;
+    const cairn_qa_engine *eg = c->eg;
     const cairn_adjustment *adj = an->adj;
-    for (size_t i = 0; i < an->nobs; i++) {
+    for (size_t i = lo; i < hi; i++) {
+        an->external[i] = NAN;
         if (!isfinite(an->mdb[i]))
             continue;
         double p = 1.0 / (adj->sigma[i] * adj->sigma[i]), m = 0;
@@ -209,7 +250,7 @@ static void external(cairn_analysis *an, const cairn_qa_engine *eg, const cairn_
             double dx = 0;
             for (size_t l = eg->rp[i]; l < eg->rp[i + 1]; l++) {
                 double q;
-                if (cairn_selinv_get(Z, uk, eg->ri[l], &q)) {
+                if (cairn_selinv_get(c->Z, uk, eg->ri[l], &q)) {
                     ok = 0;
                     break;
                 }
@@ -220,6 +261,12 @@ static void external(cairn_analysis *an, const cairn_qa_engine *eg, const cairn_
         }
         an->external[i] = ok && seen ? m : NAN;   /* NAN: it moves no coordinate */
     }
+}
+
+static void external(cairn_analysis *an, const cairn_qa_engine *eg, const cairn_selinv *Z)
+{
+    external_ctx c = {an, eg, Z};
+    cairn_parallel_for(an->nobs, cairn_parallel_parts(an->nobs, PAR_MIN), external_part, &c);
 }
 
 /* The observation snooping removes next: the largest |w| (|τ|) among the

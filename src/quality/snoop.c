@@ -30,6 +30,7 @@
  * and refactorises into the adjustment's own factor, in place: no
  * triplets, no second copy of L. */
 #include <math.h>
+#include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 #include <time.h>
@@ -103,10 +104,14 @@ static double weight(const cairn_qa_engine *eg, size_t i)
     return eg->out[i] ? 0.0 : 1.0 / (sig * sig);
 }
 
+/* What can go wrong linearising one observation. */
+enum { LIN_OK = 0, LIN_GEOM = 1, LIN_PATTERN = 2 };
+
 /* Linearise observation i at the engine's state: the coefficients of its
- * row, its σ and weight (0 when rejected), computed value and residual
- * into adj; *psig gets σ. */
-static int linearise_one(cairn_qa_engine *eg, size_t i, double *psig, cairn_error *err)
+ * row, its σ, computed value and residual into adj; *psig gets σ.
+ * Returns LIN_OK or what went wrong (reported by lin_error; no message
+ * here, so that parts of the network can be linearised at once). */
+static int linearise_one(cairn_qa_engine *eg, size_t i, double *psig)
 {
     cairn_adjustment *adj = eg->adj;
     cairn_obs tmp;
@@ -115,12 +120,8 @@ static int linearise_one(cairn_qa_engine *eg, size_t i, double *psig, cairn_erro
     memset(&lin, 0, sizeof lin);
     double sig = cairn_obs_sigma(adj->prob, o, &eg->st);
     if (!(sig > 0) || !isfinite(sig) || cairn_obs_linearise(adj->prob, o, &eg->st, &lin) ||
-        !isfinite(lin.value)) {
-        cairn_error_add(err, CAIRN_SEV_ERROR, o->src.file, o->src.line, o->src.col,
-                        "this %s cannot be computed while re-adjusting after a "
-                        "rejection (coincident marks?)", cairn_obs_kind_name(o->kind));
-        return CAIRN_SOLVE_EGEOM;
-    }
+        !isfinite(lin.value))
+        return LIN_GEOM;
     for (size_t k = eg->rp[i]; k < eg->rp[i + 1]; k++)
         eg->rc[k] = 0;
     for (int par = 0; par < CAIRN_NPAR; par++) {
@@ -133,29 +134,52 @@ static int linearise_one(cairn_qa_engine *eg, size_t i, double *psig, cairn_erro
         while (k < eg->rp[i + 1] && eg->ri[k] != u)
             k++;
         if (k == eg->rp[i + 1])
-            return internal(err, "a partial derivative outside the design-row pattern");
+            return LIN_PATTERN;
         eg->rc[k] += lin.d[par];
     }
     adj->computed[i] = lin.value;
     adj->residual[i] = cairn_obs_residual(o, lin.value);
     adj->sigma[i] = sig;
     *psig = sig;
-    return 0;
+    return LIN_OK;
 }
 
-/* Linearise every observation at the engine's state (linearise_one), and
- * give vᵀPv of the observations used and their smallest length and
- * angular σ. */
-static int linearise(cairn_qa_engine *eg, double *pvtpv, double *pminlen, double *pminang,
-                     cairn_error *err)
+static int lin_error(const cairn_qa_engine *eg, size_t i, int what, cairn_error *err)
 {
-    cairn_adjustment *adj = eg->adj;
+    if (what == LIN_PATTERN)
+        return internal(err, "a partial derivative outside the design-row pattern");
+    const cairn_obs *o = &eg->adj->prob->obs[i];
+    cairn_error_add(err, CAIRN_SEV_ERROR, o->src.file, o->src.line, o->src.col,
+                    "this %s cannot be computed while re-adjusting after a "
+                    "rejection (coincident marks?)", cairn_obs_kind_name(o->kind));
+    return CAIRN_SOLVE_EGEOM;
+}
+
+/* Observations per part below which a loop stays on one thread. */
+#define PAR_MIN 20000
+
+typedef struct {
+    cairn_qa_engine *eg;
+    double f[CAIRN_PARALLEL_MAX], minlen[CAIRN_PARALLEL_MAX], minang[CAIRN_PARALLEL_MAX];
+    size_t bad[CAIRN_PARALLEL_MAX];   /* first failing observation, or SIZE_MAX */
+    int what[CAIRN_PARALLEL_MAX];
+} lin_ctx;
+
+static void linearise_part(void *vc, int part, size_t lo, size_t hi)
+{
+    lin_ctx *c = vc;
+    cairn_qa_engine *eg = c->eg;
+    const cairn_adjustment *adj = eg->adj;
     double f = 0, minlen = INFINITY, minang = INFINITY;
-    for (size_t i = 0; i < eg->nobs; i++) {
+    c->bad[part] = SIZE_MAX;
+    for (size_t i = lo; i < hi; i++) {
         double sig;
-        int rc = linearise_one(eg, i, &sig, err);
-        if (rc)
-            return rc;
+        int what = linearise_one(eg, i, &sig);
+        if (what != LIN_OK) {
+            c->bad[part] = i;
+            c->what[part] = what;
+            break;
+        }
         if (eg->out[i])
             continue;
         double v = adj->residual[i];
@@ -166,6 +190,31 @@ static int linearise(cairn_qa_engine *eg, double *pvtpv, double *pminlen, double
         } else if (sig < minlen) {
             minlen = sig;
         }
+    }
+    c->f[part] = f;
+    c->minlen[part] = minlen;
+    c->minang[part] = minang;
+}
+
+/* Linearise every observation at the engine's state (linearise_one; on
+ * several cores for a large network, the sums combined in part order),
+ * and give vᵀPv of the observations used and their smallest length and
+ * angular σ. */
+static int linearise(cairn_qa_engine *eg, double *pvtpv, double *pminlen, double *pminang,
+                     cairn_error *err)
+{
+    lin_ctx c;
+    memset(&c, 0, sizeof c);
+    c.eg = eg;
+    int parts = cairn_parallel_parts(eg->nobs, PAR_MIN);
+    cairn_parallel_for(eg->nobs, parts, linearise_part, &c);
+    double f = 0, minlen = INFINITY, minang = INFINITY;
+    for (int p = 0; p < parts; p++) {
+        if (c.bad[p] != SIZE_MAX)
+            return lin_error(eg, c.bad[p], c.what[p], err);
+        f += c.f[p];
+        minlen = c.minlen[p] < minlen ? c.minlen[p] : minlen;
+        minang = c.minang[p] < minang ? c.minang[p] : minang;
     }
     *pvtpv = f;
     if (pminlen)
@@ -225,9 +274,9 @@ int cairn_qa_engine_init(cairn_qa_engine *eg, cairn_adjustment *adj, cairn_error
         for (size_t q = 0; q < cnt; q++)
             keep[q] = eg->rc[k0 + q];
         double sig0 = adj->sigma[i];
-        int rc = linearise_one(eg, i, &sig, err);
-        if (rc)
-            return rc;
+        int what = linearise_one(eg, i, &sig);
+        if (what != LIN_OK)
+            return lin_error(eg, i, what, err);
         for (size_t q = 0; q < cnt; q++)
             if (fabs(keep[q] - eg->rc[k0 + q]) > 1e-9 * fmax(1.0, fabs(keep[q])))
                 return internal(err, "the analysis linearises differently from the solve "
@@ -428,7 +477,7 @@ int cairn_qa_engine_reject_many(cairn_qa_engine *eg, const size_t *idx, size_t k
                                 cairn_error *err)
 {
     cairn_adjustment *adj = eg->adj;
-    double vtpv, minlen, minang, ml = INFINITY, ma = INFINITY;
+    double vtpv = 0, minlen = INFINITY, minang = INFINITY, ml = INFINITY, ma = INFINITY;
     int rc = 0;
     size_t nv = eg->n > 0 ? (size_t)eg->n : 1;
     for (size_t j = 0; j < k; j++) {

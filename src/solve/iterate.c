@@ -6,6 +6,7 @@
  * The a priori σ are re-evaluated at each linearisation point and held
  * fixed within its line search (DEVELOPERS.md). */
 #include <math.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -216,16 +217,40 @@ static void apply_step(const cairn_adjustment *adj, const cairn_xstate *x,
 
 /* vᵀPv at x with the weights w of the linearisation point; +∞ when an
  * observation is undefined there (so the line search rejects the step). */
+/* Observations per part below which a loop stays on one thread. */
+#define PAR_MIN 20000
+
+typedef struct {
+    const cairn_adjustment *adj;
+    const cairn_xstate *x;
+    const double *w;
+    double f[CAIRN_PARALLEL_MAX];
+} vtpv_ctx;
+
+static void vtpv_part(void *vc, int part, size_t lo, size_t hi)
+{
+    vtpv_ctx *c = vc;
+    double f = 0;
+    for (size_t i = lo; i < hi; i++) {
+        double comp, v;
+        if (cairn_solve_eval(c->adj, i, c->x, NULL, NULL, &comp, &v)) {
+            f = INFINITY;
+            break;
+        }
+        f += c->w[i] * v * v;
+    }
+    c->f[part] = f;
+}
+
 static double vtpv_at(const cairn_adjustment *adj, const cairn_xstate *x,
                       const double *w)
 {
+    vtpv_ctx c = {adj, x, w, {0}};
+    int parts = cairn_parallel_parts(adj->prob->nobs, PAR_MIN);
+    cairn_parallel_for(adj->prob->nobs, parts, vtpv_part, &c);
     double f = 0;
-    for (size_t i = 0; i < adj->prob->nobs; i++) {
-        double c, v;
-        if (cairn_solve_eval(adj, i, x, NULL, NULL, &c, &v))
-            return INFINITY;
-        f += w[i] * v * v;
-    }
+    for (int p = 0; p < parts; p++)
+        f += c.f[p];
     return isfinite(f) ? f : INFINITY;
 }
 
@@ -255,36 +280,89 @@ static void measure(const cairn_adjustment *adj, const double *dx, double t,
 /* Weights, computed values, residuals and design coefficients at x with
  * σ re-evaluated there. Returns vᵀPv through *pf and the smallest length
  * and angular σ. */
-static int linearise_all(cairn_adjustment *adj, const cairn_xstate *x,
-                         int iteration, cairn_rows *rows, double *w, double *v,
-                         double *pf, double *pminlen, double *pminang,
-                         cairn_error *err)
+typedef struct {
+    cairn_adjustment *adj;
+    const cairn_xstate *x;
+    cairn_rows *rows;
+    double *w, *v;
+    double f[CAIRN_PARALLEL_MAX], minlen[CAIRN_PARALLEL_MAX], minang[CAIRN_PARALLEL_MAX];
+    size_t bad[CAIRN_PARALLEL_MAX];      /* first failing observation, or SIZE_MAX */
+    int bad_sigma[CAIRN_PARALLEL_MAX];   /* 1: its σ, 0: its evaluation failed */
+} lin_ctx;
+
+static void linearise_part(void *vc, int part, size_t lo, size_t hi)
 {
+    lin_ctx *c = vc;
+    cairn_adjustment *adj = c->adj;
     const cairn_problem *p = adj->prob;
     double f = 0, minlen = INFINITY, minang = INFINITY;
-    for (size_t i = 0; i < p->nobs; i++) {
+    c->bad[part] = SIZE_MAX;
+    for (size_t i = lo; i < hi; i++) {
         cairn_obs tmp;
         const cairn_obs *o = local_obs(adj, i, &tmp);
-        double sig = cairn_obs_sigma(p, o, &x->st);
+        double sig = cairn_obs_sigma(p, o, &c->x->st);
         if (!(sig > 0) || !isfinite(sig)) {
-            cairn_error_add(err, CAIRN_SEV_ERROR, o->src.file, o->src.line,
-                            o->src.col, "this %s has no usable a priori standard "
-                            "deviation", cairn_obs_kind_name(o->kind));
-            return CAIRN_SOLVE_EGEOM;
+            c->bad[part] = i;
+            c->bad_sigma[part] = 1;
+            break;
         }
         adj->sigma[i] = sig;
-        w[i] = 1.0 / (sig * sig);
-        if (cairn_solve_eval(adj, i, x, rows, rows ? rows->coef + rows->ptr[i] : NULL,
-                             &adj->computed[i], &v[i]))
-            return geom_error(adj, i, x, iteration, err);
-        adj->residual[i] = v[i];
-        f += w[i] * v[i] * v[i];
+        c->w[i] = 1.0 / (sig * sig);
+        if (cairn_solve_eval(adj, i, c->x, c->rows,
+                             c->rows ? c->rows->coef + c->rows->ptr[i] : NULL,
+                             &adj->computed[i], &c->v[i])) {
+            c->bad[part] = i;
+            c->bad_sigma[part] = 0;
+            break;
+        }
+        adj->residual[i] = c->v[i];
+        f += c->w[i] * c->v[i] * c->v[i];
         if (cairn_obs_kind_angular(o->kind)) {
             if (sig < minang)
                 minang = sig;
         } else if (sig < minlen) {
             minlen = sig;
         }
+    }
+    c->f[part] = f;
+    c->minlen[part] = minlen;
+    c->minang[part] = minang;
+}
+
+/* σ, weights, computed values, residuals and (rows not NULL) the design
+ * rows of every observation at x, on several cores for a large network
+ * (the sums combined in part order); vᵀPv and the smallest length and
+ * angular σ. The first observation that fails is reported, as one pass
+ * in order would. */
+static int linearise_all(cairn_adjustment *adj, const cairn_xstate *x,
+                         int iteration, cairn_rows *rows, double *w, double *v,
+                         double *pf, double *pminlen, double *pminang,
+                         cairn_error *err)
+{
+    lin_ctx c;
+    memset(&c, 0, sizeof c);
+    c.adj = adj;
+    c.x = x;
+    c.rows = rows;
+    c.w = w;
+    c.v = v;
+    int parts = cairn_parallel_parts(adj->prob->nobs, PAR_MIN);
+    cairn_parallel_for(adj->prob->nobs, parts, linearise_part, &c);
+    double f = 0, minlen = INFINITY, minang = INFINITY;
+    for (int p = 0; p < parts; p++) {
+        if (c.bad[p] != SIZE_MAX) {
+            size_t i = c.bad[p];
+            if (!c.bad_sigma[p])
+                return geom_error(adj, i, x, iteration, err);
+            const cairn_obs *o = &adj->prob->obs[i];
+            cairn_error_add(err, CAIRN_SEV_ERROR, o->src.file, o->src.line,
+                            o->src.col, "this %s has no usable a priori standard "
+                            "deviation", cairn_obs_kind_name(o->kind));
+            return CAIRN_SOLVE_EGEOM;
+        }
+        f += c.f[p];
+        minlen = c.minlen[p] < minlen ? c.minlen[p] : minlen;
+        minang = c.minang[p] < minang ? c.minang[p] : minang;
     }
     *pf = f;
     *pminlen = minlen;
