@@ -111,6 +111,10 @@ char *cairn_strdup(const char *s);
 /** Largest number of parts cairn_parallel_for splits a loop into. */
 #define CAIRN_PARALLEL_MAX 8
 
+/** Observations per part below which the loops over observations stay on
+ *  one thread (the min_items the stages pass to cairn_parallel_parts). */
+#define CAIRN_PARALLEL_MIN_OBS 20000
+
 /** How many parts a loop of n independent items should use: one per
  *  online processor (at most CAIRN_PARALLEL_MAX), but none smaller than
  *  min_items, so that small networks run on one thread exactly as

@@ -36,3 +36,27 @@ int cairn_output_run(cairn_write_job *jobs, int n)
         rc |= jobs[k].status;
     return rc ? -1 : 0;
 }
+
+int cairn_output_write_files(cairn_outset *set, const cairn_write_spec *spec, size_t n,
+                             unsigned formats, void *ctx, const char *dir,
+                             cairn_error *err)
+{
+    cairn_write_job jobs[CAIRN_OUTPUT_MAX_FILES];
+    const char *names[CAIRN_OUTPUT_MAX_FILES];
+    int nj = 0;
+    for (size_t k = 0; k < n && nj < CAIRN_OUTPUT_MAX_FILES; k++) {
+        if (!(formats & spec[k].fmt))
+            continue;
+        FILE *f = cairn_outset_open(set, spec[k].name, err);
+        if (!f)
+            return -1;
+        names[nj] = spec[k].name;
+        jobs[nj++] = (cairn_write_job){spec[k].write, ctx, f, 0};
+    }
+    if (cairn_output_run(jobs, nj) == 0)
+        return 0;
+    for (int k = 0; k < nj; k++)
+        if (jobs[k].status)
+            cairn_error_add(err, CAIRN_SEV_ERROR, dir, 0, 0, "cannot write %s", names[k]);
+    return -1;
+}

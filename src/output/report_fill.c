@@ -508,36 +508,14 @@ int cairn_write_result_set(const char *dir, const cairn_adjustment *adj,
     cairn_outset *set = cairn_outset_new(dir, err);
     if (!set)
         return -1;
-    /* results.xml first: the largest, it gets the second thread */
-    static const struct {
-        unsigned fmt;
-        const char *name;
-        int (*write)(FILE *, void *);
-    } order[] = {{CAIRN_FORMAT_XML, "results.xml", job_xml},
-                 {CAIRN_FORMAT_TXT, "report.txt", job_txt},
-                 {CAIRN_FORMAT_HTML, "report.html", job_html},
-                 {CAIRN_FORMAT_CSV, "marks.csv", job_marks},
-                 {CAIRN_FORMAT_CSV, "observations.csv", job_obs}};
-    cairn_write_job jobs[sizeof order / sizeof order[0]];
-    int n = 0, rc = 0;
-    for (size_t k = 0; k < sizeof order / sizeof order[0] && rc == 0; k++) {
-        if (!(formats & order[k].fmt))
-            continue;
-        FILE *f = cairn_outset_open(set, order[k].name, err);
-        if (!f) {
-            rc = -1;
-            break;
-        }
-        jobs[n++] = (cairn_write_job){order[k].write, &ctx, f, 0};
-    }
-    if (rc == 0 && cairn_output_run(jobs, n)) {
-        for (int k = 0; k < n; k++)
-            for (size_t q = 0; q < sizeof order / sizeof order[0]; q++)
-                if (jobs[k].status && jobs[k].write == order[q].write)
-                    cairn_error_add(err, CAIRN_SEV_ERROR, dir, 0, 0, "cannot write %s",
-                                    order[q].name);
-        rc = -1;
-    }
+    /* results.xml first: the largest, it gets the second thread (jobs.c) */
+    static const cairn_write_spec spec[] = {{CAIRN_FORMAT_XML, "results.xml", job_xml},
+                                            {CAIRN_FORMAT_TXT, "report.txt", job_txt},
+                                            {CAIRN_FORMAT_HTML, "report.html", job_html},
+                                            {CAIRN_FORMAT_CSV, "marks.csv", job_marks},
+                                            {CAIRN_FORMAT_CSV, "observations.csv", job_obs}};
+    int rc = cairn_output_write_files(set, spec, sizeof spec / sizeof spec[0], formats, &ctx,
+                                      dir, err);
     if (rc == 0)
         rc = cairn_outset_commit(set, err);
     cairn_outset_free(&set);

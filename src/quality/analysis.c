@@ -101,21 +101,28 @@ static void factors(cairn_analysis *an)
     }
 }
 
-/* Observations per part below which a loop stays on one thread. */
-#define PAR_MIN 20000
-
+/* What the loops over observations of the analysis read and fill. */
 typedef struct {
     cairn_analysis *an;
     const cairn_qa_engine *eg;
     const cairn_selinv *Z;
-} redundancy_ctx;
+} obs_ctx;
+
+/* body over every observation, on several cores for a large network. */
+static void for_obs(cairn_analysis *an, const cairn_qa_engine *eg, const cairn_selinv *Z,
+                    void (*body)(void *, int, size_t, size_t))
+{
+    obs_ctx c = {an, eg, Z};
+    cairn_parallel_for(an->nobs, cairn_parallel_parts(an->nobs, CAIRN_PARALLEL_MIN_OBS),
+                       body, &c);
+}
 
 /* rᵢ into an->r for the observations used (NAN for rejected ones, and
  * where a Qxx entry is missing: the caller reports that). */
 static void redundancy_part(void *vc, int part, size_t lo, size_t hi)
 {
     (void)part;
-    redundancy_ctx *c = vc;
+    obs_ctx *c = vc;
     const cairn_qa_engine *eg = c->eg;
     for (size_t i = lo; i < hi; i++) {
         if (eg->out[i]) {
@@ -156,9 +163,7 @@ static int test_observations(cairn_analysis *an, const cairn_qa_engine *eg,
     double crit = tau ? an->taucrit : an->wcrit;
     an->nflagged = an->nunchecked = 0;
     /* the redundancy numbers, the costly part, on several cores */
-    redundancy_ctx rctx = {an, eg, Z};
-    cairn_parallel_for(an->nobs, cairn_parallel_parts(an->nobs, PAR_MIN), redundancy_part,
-                       &rctx);
+    for_obs(an, eg, Z, redundancy_part);
     for (size_t i = 0; i < an->nobs; i++) {
         double r = an->r[i];
         an->w[i] = an->mdb[i] = an->nabla[i] = an->r[i] = NAN;
@@ -223,16 +228,10 @@ static int test_observations(cairn_analysis *an, const cairn_qa_engine *eg,
  * of the factor, so this needs no solve. The largest shift anywhere in
  * the network would need the whole column Q aᵢᵀ, one solve per
  * observation; we do not make it (DESIGN.md "Performance"). */
-typedef struct {
-    cairn_analysis *an;
-    const cairn_qa_engine *eg;
-    const cairn_selinv *Z;
-} external_ctx;
-
 static void external_part(void *vc, int part, size_t lo, size_t hi)
 {
     (void)part;
-    external_ctx *c = vc;
+    obs_ctx *c = vc;
     cairn_analysis *an = c->an;
     const cairn_qa_engine *eg = c->eg;
     const cairn_adjustment *adj = an->adj;
@@ -261,12 +260,6 @@ static void external_part(void *vc, int part, size_t lo, size_t hi)
         }
         an->external[i] = ok && seen ? m : NAN;   /* NAN: it moves no coordinate */
     }
-}
-
-static void external(cairn_analysis *an, const cairn_qa_engine *eg, const cairn_selinv *Z)
-{
-    external_ctx c = {an, eg, Z};
-    cairn_parallel_for(an->nobs, cairn_parallel_parts(an->nobs, PAR_MIN), external_part, &c);
 }
 
 /* The observation snooping removes next: the largest |w| (|τ|) among the
@@ -434,7 +427,7 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
     }
     double tp = cairn_qa_now();
     if (Z) {
-        external(an, &eg, Z);
+        for_obs(an, &eg, Z, external_part);   /* external reliability */
         cairn_qa_marks(an, Z);
     }
     if (cairn_qa_pairs(an, Z)) {

@@ -155,9 +155,6 @@ static int lin_error(const cairn_qa_engine *eg, size_t i, int what, cairn_error 
     return CAIRN_SOLVE_EGEOM;
 }
 
-/* Observations per part below which a loop stays on one thread. */
-#define PAR_MIN 20000
-
 typedef struct {
     cairn_qa_engine *eg;
     double f[CAIRN_PARALLEL_MAX], minlen[CAIRN_PARALLEL_MAX], minang[CAIRN_PARALLEL_MAX];
@@ -206,7 +203,7 @@ static int linearise(cairn_qa_engine *eg, double *pvtpv, double *pminlen, double
     lin_ctx c;
     memset(&c, 0, sizeof c);
     c.eg = eg;
-    int parts = cairn_parallel_parts(eg->nobs, PAR_MIN);
+    int parts = cairn_parallel_parts(eg->nobs, CAIRN_PARALLEL_MIN_OBS);
     cairn_parallel_for(eg->nobs, parts, linearise_part, &c);
     double f = 0, minlen = INFINITY, minang = INFINITY;
     for (int p = 0; p < parts; p++) {
@@ -545,11 +542,8 @@ int cairn_qa_engine_reject_many(cairn_qa_engine *eg, const size_t *idx, size_t k
      * follow are the final ones and no second selected inverse is needed
      * when nothing more fails. */
     eg->factor_at_solution = eg->n == 0;
-    if (eg->n > 0 && k <= LAST_ROUND_MAX) {
-        if ((rc = factorise(eg, err)))
-            goto done;
-        eg->factor_at_solution = 1;
-    }
+    if (k <= LAST_ROUND_MAX && (rc = cairn_qa_engine_refactor(eg, err)))
+        goto done;
     write_back(eg, vtpv);
 done:
     free(y);

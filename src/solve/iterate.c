@@ -215,11 +215,6 @@ static void apply_step(const cairn_adjustment *adj, const cairn_xstate *x,
     }
 }
 
-/* vᵀPv at x with the weights w of the linearisation point; +∞ when an
- * observation is undefined there (so the line search rejects the step). */
-/* Observations per part below which a loop stays on one thread. */
-#define PAR_MIN 20000
-
 typedef struct {
     const cairn_adjustment *adj;
     const cairn_xstate *x;
@@ -242,16 +237,29 @@ static void vtpv_part(void *vc, int part, size_t lo, size_t hi)
     c->f[part] = f;
 }
 
+/* vᵀPv at x with the weights w of the linearisation point; +∞ when an
+ * observation is undefined there (so the line search rejects the step). */
 static double vtpv_at(const cairn_adjustment *adj, const cairn_xstate *x,
                       const double *w)
 {
     vtpv_ctx c = {adj, x, w, {0}};
-    int parts = cairn_parallel_parts(adj->prob->nobs, PAR_MIN);
+    int parts = cairn_parallel_parts(adj->prob->nobs, CAIRN_PARALLEL_MIN_OBS);
     cairn_parallel_for(adj->prob->nobs, parts, vtpv_part, &c);
     double f = 0;
     for (int p = 0; p < parts; p++)
         f += c.f[p];
     return isfinite(f) ? f : INFINITY;
+}
+
+/* Directional derivative of vᵀPv along dx at the linearisation point:
+ * g = 2AᵀPv = −2b. */
+static double slope_along(const cairn_solver *s, const double *dx, int n)
+{
+    const double *b = s->b->x;
+    double gtd = 0;
+    for (int j = 0; j < n; j++)
+        gtd -= 2.0 * b[j] * dx[j];
+    return gtd;
 }
 
 /* Largest corrections of t·dx, lengths and angles, and where. */
@@ -277,9 +285,6 @@ static void measure(const cairn_adjustment *adj, const double *dx, double t,
     }
 }
 
-/* Weights, computed values, residuals and design coefficients at x with
- * σ re-evaluated there. Returns vᵀPv through *pf and the smallest length
- * and angular σ. */
 typedef struct {
     cairn_adjustment *adj;
     const cairn_xstate *x;
@@ -329,8 +334,8 @@ static void linearise_part(void *vc, int part, size_t lo, size_t hi)
     c->minang[part] = minang;
 }
 
-/* σ, weights, computed values, residuals and (rows not NULL) the design
- * rows of every observation at x, on several cores for a large network
+/* σ re-evaluated at x, weights, computed values, residuals and (rows not
+ * NULL) the design coefficients of every observation, on several cores for a large network
  * (the sums combined in part order); vᵀPv and the smallest length and
  * angular σ. The first observation that fails is reported, as one pass
  * in order would. */
@@ -346,7 +351,7 @@ static int linearise_all(cairn_adjustment *adj, const cairn_xstate *x,
     c.rows = rows;
     c.w = w;
     c.v = v;
-    int parts = cairn_parallel_parts(adj->prob->nobs, PAR_MIN);
+    int parts = cairn_parallel_parts(adj->prob->nobs, CAIRN_PARALLEL_MIN_OBS);
     cairn_parallel_for(adj->prob->nobs, parts, linearise_part, &c);
     double f = 0, minlen = INFINITY, minang = INFINITY;
     for (int p = 0; p < parts; p++) {
@@ -470,11 +475,7 @@ int cairn_solve_iterate(cairn_adjustment *adj, const cairn_adjust_options *opt,
                 opt->progress(lg, opt->progress_ctx);
             break;
         }
-        /* directional derivative of vᵀPv along dx: g = 2AᵀPv = −2b */
-        const double *b = s->b->x;
-        double gtd = 0;
-        for (int j = 0; j < n; j++)
-            gtd -= 2.0 * b[j] * dx[j];
+        double gtd = slope_along(s, dx, n);
         double t = 1.0, ft = INFINITY;
         int accepted = 0;
         if (chord) {
@@ -489,9 +490,7 @@ int cairn_solve_iterate(cairn_adjustment *adj, const cairn_adjust_options *opt,
                     goto done;
                 lg->chord = chord = 0;
                 measure(adj, dx, 1.0, lg);
-                gtd = 0;
-                for (int j = 0; j < n; j++)
-                    gtd -= 2.0 * b[j] * dx[j];
+                gtd = slope_along(s, dx, n);
             }
         }
         for (int k = 0; !accepted && k <= opt->max_halvings; k++, t *= 0.5) {
