@@ -271,6 +271,24 @@ const char *cairn_fmt_csv_num(char *buf, size_t n, double x, int dec)
     return buf;
 }
 
+int cairn_fmt_utf8_len(const unsigned char *p)
+{
+    unsigned c = p[0];
+    if (c < 0x80)
+        return 1;
+    int len = c >= 0xC2 && c <= 0xDF ? 2 : c >= 0xE0 && c <= 0xEF ? 3
+            : c >= 0xF0 && c <= 0xF4 ? 4 : 0;
+    for (int i = 1; i < len; i++)
+        if ((p[i] & 0xC0) != 0x80)
+            return 0;   /* also stops at the terminating 0 */
+    if (len == 3 && ((c == 0xE0 && p[1] < 0xA0) || (c == 0xED && p[1] >= 0xA0) ||
+                     (c == 0xEF && p[1] == 0xBF && p[2] >= 0xBE)))
+        return 0;
+    if (len == 4 && ((c == 0xF0 && p[1] < 0x90) || (c == 0xF4 && p[1] >= 0x90)))
+        return 0;
+    return len;
+}
+
 void cairn_fmt_csv_field(FILE *f, const char *s)
 {
     if (!strpbrk(s, ",\"\r\n")) {

@@ -469,21 +469,8 @@ void cairn_rpt_esc(FILE *f, const char *s)
             p++;
             continue;
         }
-        /* a well-formed UTF-8 sequence (no overlongs, no surrogates) passes */
-        int len = c >= 0xC2 && c <= 0xDF ? 2 : c >= 0xE0 && c <= 0xEF ? 3
-                : c >= 0xF0 && c <= 0xF4 ? 4 : 0;
-        int ok = len > 0;
-        for (int i = 1; ok && i < len; i++)
-            ok = (p[i] & 0xC0) == 0x80;
-        if (ok && len == 3) {
-            if ((c == 0xE0 && p[1] < 0xA0) || (c == 0xED && p[1] >= 0xA0))
-                ok = 0;
-            /* U+FFFE and U+FFFF are not XML characters */
-            if (c == 0xEF && p[1] == 0xBF && p[2] >= 0xBE)
-                ok = 0;
-        }
-        if (ok && len == 4 && ((c == 0xF0 && p[1] < 0x90) || (c == 0xF4 && p[1] >= 0x90)))
-            ok = 0;
+        /* a well-formed UTF-8 sequence that is an XML character passes */
+        int len = cairn_fmt_utf8_len(p), ok = len > 0;
         if (ok) {
             fwrite(p, 1, (size_t)len, f);
             p += len;

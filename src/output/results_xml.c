@@ -16,30 +16,40 @@
 #define DEG_DEC 10
 #define SEC_DEC 7
 
-/* XML attribute text: & < > " and control characters escaped. Most text
- * (ids, file names) needs nothing: then it goes out in one piece. */
+/* XML attribute text (XML 1.0 §2.2, §3.3.3): & < > " escaped; tab,
+ * newline and carriage return as character references, so that they read
+ * back as themselves and not as spaces; other control characters and bytes
+ * that are not UTF-8 (a file name in a legacy encoding) become '?', because
+ * XML 1.0 cannot hold them at all and one of them would make the whole file
+ * unreadable. Most text (ids, file names) needs nothing: then it goes out
+ * in one piece. */
 static void esc(FILE *f, const char *s)
 {
     if (!s)
         return;
-    const char *p = s;
-    while (*p && *p != '&' && *p != '<' && *p != '>' && *p != '"' &&
-           (unsigned char)*p >= 0x20)
+    const unsigned char *p = (const unsigned char *)s;
+    while (*p && *p != '&' && *p != '<' && *p != '>' && *p != '"' && *p >= 0x20 &&
+           *p < 0x80)
         p++;
-    fwrite(s, 1, (size_t)(p - s), f);
-    for (s = p; *s; s++) {
-        unsigned char c = (unsigned char)*s;
+    fwrite(s, 1, (size_t)(p - (const unsigned char *)s), f);
+    while (*p) {
+        unsigned c = *p;
+        int len = cairn_fmt_utf8_len(p);
         switch (c) {
         case '&': fputs("&amp;", f); break;
         case '<': fputs("&lt;", f); break;
         case '>': fputs("&gt;", f); break;
         case '"': fputs("&quot;", f); break;
+        case '\t': case '\n': case '\r': fprintf(f, "&#%u;", c); break;
         default:
-            if (c < 0x20)
-                fprintf(f, "&#%u;", c);   /* tab, newline: kept as references */
-            else
-                putc(c, f);
+            if (c < 0x20 || len == 0) {
+                putc('?', f);
+                len = 1;
+            } else {
+                fwrite(p, 1, (size_t)len, f);
+            }
         }
+        p += len;
     }
 }
 

@@ -89,6 +89,32 @@ START_TEST(random_values)
 }
 END_TEST
 
+/* Well-formed UTF-8 per RFC 3629 §4 (the UTF8-octets grammar) that is
+ * also an XML 1.0 Char (§2.2): the sequences below are the boundary cases
+ * of those two productions. */
+START_TEST(utf8_sequences)
+{
+    static const struct {
+        const char *s;
+        int len;
+    } cases[] = {
+        {"a", 1}, {"\x01", 1},                       /* ASCII, controls left to callers */
+        {"\xc2\x80", 2}, {"\xdf\xbf", 2},           /* U+0080, U+07FF */
+        {"\xc0\xaf", 0}, {"\xc1\xbf", 0},           /* overlong two-byte forms */
+        {"\xe0\xa0\x80", 3}, {"\xe0\x9f\xbf", 0},   /* U+0800; overlong */
+        {"\xed\x9f\xbf", 3}, {"\xed\xa0\x80", 0},   /* U+D7FF; a surrogate */
+        {"\xef\xbf\xbd", 3}, {"\xef\xbf\xbe", 0},   /* U+FFFD; U+FFFE not a Char */
+        {"\xf0\x90\x80\x80", 4}, {"\xf0\x8f\xbf\xbf", 0}, /* U+10000; overlong */
+        {"\xf4\x8f\xbf\xbf", 4}, {"\xf4\x90\x80\x80", 0}, /* U+10FFFF; beyond */
+        {"\xf5\x80\x80\x80", 0}, {"\xff", 0}, {"\x80", 0},  /* never lead bytes */
+        {"\xc3", 0}, {"\xe2\x82", 0},               /* cut short by the end */
+    };
+    for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++)
+        ck_assert_msg(cairn_fmt_utf8_len((const unsigned char *)cases[i].s) == cases[i].len,
+                      "case %zu", i);
+}
+END_TEST
+
 int main(void)
 {
     Suite *s = suite_create("fmt");
@@ -96,6 +122,7 @@ int main(void)
     tcase_set_timeout(tc, 60);
     tcase_add_test(tc, edge_cases);
     tcase_add_test(tc, random_values);
+    tcase_add_test(tc, utf8_sequences);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);

@@ -276,13 +276,17 @@ START_TEST(results_xml_validates)
 }
 END_TEST
 
-/* results.xml escapes what a file name may hold (& < > " and a tab) and
- * reads back to the same text (XML 1.0 §2.4, §3.3.3: attribute values). */
+/* results.xml escapes what a file name may hold (& < > ", a tab, a
+ * carriage return) and reads back to the same text (XML 1.0 §2.4, §3.3.3:
+ * attribute values); a control character and a byte that is not UTF-8,
+ * which XML 1.0 cannot hold (§2.2), come back as '?' and the file still
+ * parses. */
 START_TEST(results_xml_escapes_source)
 {
     run r;
     ck_assert_int_eq(run_network(&r, networks[0], NULL), 0);
-    const char *hostile = "a&b<c>\"d\te'f.cfb";
+    const char *hostile = "a&b<c>\"d\te'f\rg\x01h\xffi\xc3\xa9.cfb";
+    const char *readback = "a&b<c>\"d\te'f\rg?h?i\xc3\xa9.cfb";
     r.prob->obs[0].src.file = hostile;
     char dir[] = "/tmp/cairn-test-quality-XXXXXX";
     ck_assert_ptr_nonnull(mkdtemp(dir));
@@ -298,7 +302,7 @@ START_TEST(results_xml_escapes_source)
             got = xmlGetProp(n, BAD_CAST "source");
     ck_assert_ptr_nonnull(got);
     char want[128];
-    snprintf(want, sizeof want, "%s:%d", hostile, r.prob->obs[0].src.line);
+    snprintf(want, sizeof want, "%s:%d", readback, r.prob->obs[0].src.line);
     ck_assert_str_eq((const char *)got, want);
     xmlFree(got);
     xmlFreeDoc(doc);
