@@ -4,8 +4,14 @@
  * takes 0.1–0.3 s on one core, and OpenBLAS's threads sit idle meanwhile.
  * One short-lived thread per extra part (joined before returning) is all
  * it takes: there is no pool and no shared state. */
+#if defined(__linux__) && !defined(_GNU_SOURCE)
+#define _GNU_SOURCE 1   /* sched_getaffinity, CPU_COUNT */
+#endif
 #include <pthread.h>
 #include <unistd.h>
+#ifdef __linux__
+#include <sched.h>
+#endif
 
 #include "cairn/core.h"
 
@@ -23,9 +29,27 @@ static void *run_part(void *arg)
     return NULL;
 }
 
+/* Processors this process may run on: its CPU affinity mask where the
+ * system has one, so that `taskset`, a cgroup cpuset or a batch system's
+ * binding limits cairn's loops as it limits OpenBLAS's threads (which
+ * count the same mask); else the online processors. */
+static long usable_cpus(void)
+{
+#ifdef __linux__
+    cpu_set_t set;
+    CPU_ZERO(&set);
+    if (sched_getaffinity(0, sizeof set, &set) == 0) {
+        int k = CPU_COUNT(&set);
+        if (k > 0)
+            return k;
+    }
+#endif
+    return sysconf(_SC_NPROCESSORS_ONLN);
+}
+
 int cairn_parallel_parts(size_t n, size_t min_items)
 {
-    long cpus = sysconf(_SC_NPROCESSORS_ONLN);
+    long cpus = usable_cpus();
     int parts = cpus > 1 ? (int)(cpus < CAIRN_PARALLEL_MAX ? cpus : CAIRN_PARALLEL_MAX) : 1;
     if (min_items == 0)
         min_items = 1;

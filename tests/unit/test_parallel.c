@@ -1,7 +1,13 @@
 /* Unit tests of src/core/parallel.c: every index of a loop is visited
  * exactly once, parts are contiguous and in order, and small loops stay
  * on one part. */
+#if defined(__linux__) && !defined(_GNU_SOURCE)
+#define _GNU_SOURCE 1   /* sched_setaffinity, CPU_* */
+#endif
 #include <check.h>
+#ifdef __linux__
+#include <sched.h>
+#endif
 #include <stdlib.h>
 
 #include "cairn/core.h"
@@ -61,12 +67,38 @@ START_TEST(small_loops_one_part)
 }
 END_TEST
 
+#ifdef __linux__
+/* Bound to one processor (as by taskset -c), the loops use one part
+ * whatever the machine has: sched_setaffinity(2). */
+START_TEST(affinity_limits_parts)
+{
+    cpu_set_t all, one;
+    ck_assert_int_eq(sched_getaffinity(0, sizeof all, &all), 0);
+    int first = 0;
+    while (first < CPU_SETSIZE && !CPU_ISSET(first, &all))
+        first++;
+    ck_assert_int_lt(first, CPU_SETSIZE);
+    CPU_ZERO(&one);
+    CPU_SET(first, &one);
+    ck_assert_int_eq(sched_setaffinity(0, sizeof one, &one), 0);
+    int p = cairn_parallel_parts(10000000, 1);
+    ck_assert_int_eq(sched_setaffinity(0, sizeof all, &all), 0);
+    ck_assert_int_eq(p, 1);
+    int want = CPU_COUNT(&all) < CAIRN_PARALLEL_MAX ? CPU_COUNT(&all) : CAIRN_PARALLEL_MAX;
+    ck_assert_int_eq(cairn_parallel_parts(10000000, 1), want);
+}
+END_TEST
+#endif
+
 int main(void)
 {
     Suite *s = suite_create("parallel");
     TCase *tc = tcase_create("core");
     tcase_add_test(tc, covers_every_index_once);
     tcase_add_test(tc, small_loops_one_part);
+#ifdef __linux__
+    tcase_add_test(tc, affinity_limits_parts);
+#endif
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);
