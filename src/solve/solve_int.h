@@ -67,6 +67,7 @@ struct cairn_solver {
     cholmod_dense *b;      /* right-hand side AᵀP(observed − computed) */
     double *ndiag;         /* undamped diagonal of N */
     int n;
+    int order_by_density;  /* AUTO chose METIS by size: the pattern may still say AMD */
     cairn_rows rows;       /* design-row pattern (adjust.c) */
     cairn_xstate x;        /* final local state, for re-linearising */
     cairn_solve_timing t;  /* seconds per phase (make bench) */

@@ -2,11 +2,12 @@
  * the yardstick: a bare CHOLMOD analyse + factorise of the same normal
  * matrix with a fresh cholmod_common, timed in the same run.
  *
- * usage: phases FIELDBOOK [OUTDIR [iterate|flag]]
+ * usage: phases FIELDBOOK [OUTDIR [iterate|flag [LABEL]]]
  * The third argument is the snooping mode (default iterate, the program's
- * default; flag tests every observation once and rejects nothing).
+ * default; flag tests every observation once and rejects nothing); LABEL
+ * names the kind of network in the first column (default "-").
  * Prints one Markdown table row:
- * | marks | unknowns | observations | nnz(L) | load | start | build | pattern |
+ * | network | marks | snoop | unknowns | observations | nnz(L) | load | start | build | pattern |
  *   analyse | assemble | factorise (n) | solve | quality+snooping | selinv |
  *   write | total | bare | total/bare | peak RSS MB | bare MB |
  * Not a test: timings live here only. */
@@ -83,11 +84,12 @@ static void die(const char *what, cairn_error *err)
 int main(int argc, char **argv)
 {
     if (argc < 2) {
-        fprintf(stderr, "usage: phases FIELDBOOK [OUTDIR [iterate|flag]]\n");
+        fprintf(stderr, "usage: phases FIELDBOOK [OUTDIR [iterate|flag [LABEL]]]\n");
         return 2;
     }
     const char *outdir = argc > 2 ? argv[2] : "/tmp/cairn-bench-out";
     int flag = argc > 3 && !strcmp(argv[3], "flag");
+    const char *label = argc > 4 ? argv[4] : "-";
     if (argc > 3 && !flag && strcmp(argv[3], "iterate")) {
         fprintf(stderr, "phases: snooping mode must be iterate or flag\n");
         return 2;
@@ -166,9 +168,9 @@ int main(int argc, char **argv)
                 "includes the yardstick's factorisation\n");
     double bare = b2 - b0;
     double total = (t4 - t0) + (q2 - q1) + (q1 - q0);
-    printf("| %zu | %s | %d | %zu | %.3g | %.2f | %.2f | %.2f | %.2f | %.2f | %.2f | %.2f (%d) | "
+    printf("| %s | %zu | %s | %d | %zu | %.3g | %.2f | %.2f | %.2f | %.2f | %.2f | %.2f | %.2f (%d) | "
            "%.2f | %.2f | %.2f | %.2f | %.2f | %.2f (%.2f+%.2f) | %.1f | %.0f | %.0f |\n",
-           net->nmarks, flag ? "flag" : "iterate", adj->nunknowns, adj->nobs, lnz, t1 - t0, t3 - t2, t2 - t1,
+           label, net->nmarks, flag ? "flag" : "iterate", adj->nunknowns, adj->nobs, lnz, t1 - t0, t3 - t2, t2 - t1,
            st.pattern, st.analyse, st.assemble, st.factorise, st.nfactorise, st.solve,
            q1 - q0, an->selinv_seconds, q2 - q1, total, bare, b1 - b0, b2 - b1,
            total / bare, peak, bare_mb);

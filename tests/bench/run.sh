@@ -8,7 +8,9 @@
 #    analyse + factorise of the same normal matrix in the same run; the
 #    table goes to stdout and to tests/bench/results.md.
 # BENCH_SIZES overrides the sizes (default 1000 10000 100000; BENCH_FULL=1
-# adds 1000000). SELINV_SIZES likewise for part 1.
+# adds 1000000), BENCH_KINDS the kinds of network (default plane 3d level:
+# gen --kind; 3d is left out at 10^6, which would need most of a 24 GiB
+# machine). SELINV_SIZES likewise for part 1.
 set -eu
 top=$(cd "$(dirname "$0")/../.." && pwd)
 build=${BUILD:-$top/build}
@@ -36,14 +38,18 @@ table=$out/results.md
     echo "snoop: iterate = the default data snooping (at alpha 0.001 about 0.1 % of the good observations fail by chance and are rejected, in rounds of one factorisation and one selected inverse each, plus one more of each at the end); flag = every observation tested once, nothing rejected."
     echo "Peak RSS: the adjustment's own peak (the yardstick's factorisation excluded)."
     echo
-    echo "| marks | snoop | unknowns | observations | nnz(L) | load | start | build | pattern | analyse | assemble | factorise (n) | solve | quality+snooping | selinv | write | total | bare (analyse+factor) | total/bare | peak RSS MB | bare MB |"
-    echo "|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|"
+    echo "| network | marks | snoop | unknowns | observations | nnz(L) | load | start | build | pattern | analyse | assemble | factorise (n) | solve | quality+snooping | selinv | write | total | bare (analyse+factor) | total/bare | peak RSS MB | bare MB |"
+    echo "|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|"
 } >"$table"
-for n in $sizes; do
-    fb=$out/plane-$n.cfb
-    [ -f "$fb" ] || "$out/gen" --kind plane --marks "$n" --seed 7 -o "$fb"
-    "$out/phases" "$fb" "$out/res-$n" iterate >>"$table"
-    "$out/phases" "$fb" "$out/res-$n" flag >>"$table"
+for kind in ${BENCH_KINDS:-plane 3d level}; do
+    for n in $sizes; do
+        [ "$kind" = 3d ] && [ "$n" -ge 1000000 ] && continue
+        fb=$out/$kind-$n.cfb
+        [ -f "$fb" ] || "$out/gen" --kind "$kind" --marks "$n" --seed 7 -o "$fb"
+        "$out/phases" "$fb" "$out/res-$kind-$n" iterate "$kind" >>"$table"
+        "$out/phases" "$fb" "$out/res-$kind-$n" flag "$kind" >>"$table"
+        rm -rf "$out/res-$kind-$n"   # 5 GB of result files at 10^6 marks
+    done
 done
 cat "$table"
 cp "$table" "$top/tests/bench/results.md"

@@ -11,6 +11,8 @@
 #include "cairn/output.h"
 #include "cairn/selinv.h"
 
+static const double PI_ = 3.14159265358979323846;
+
 static cairn_src src_at(cairn_net *net, int line)
 {
     cairn_src s = {cairn_net_file(net, "test.cfb"), line, 1};
@@ -640,6 +642,74 @@ START_TEST(chord_steps)
 }
 END_TEST
 
+/* The automatic ordering of a network counted large (metis_threshold
+ * lowered to 4 unknowns here): a levelling loop, 1 to 3 entries per column
+ * of N, is ordered with AMD; a trilateration braced between every pair of
+ * its marks, N full, with METIS (normal.c, SPARSE_PATTERN_AMD). Both must
+ * still give the exact answer: loop heights by hand (equal σ, misclosure
+ * spread evenly), the braced marks at their true positions. */
+START_TEST(auto_ordering_by_pattern)
+{
+    cairn_adjust_options opt;
+    cairn_adjust_options_default(&opt);
+    opt.metis_threshold = 4;
+    cairn_problem *p = NULL;
+    cairn_adjustment *adj = NULL;
+    char msg[2000];
+
+    /* loop of 12 marks, held M0, each rise +1 m booked, last one −11 m and
+     * 12 mm short of closing: every rise takes −1 mm */
+    cairn_net *net = cairn_net_new();
+    int m[12];
+    for (int k = 0; k < 12; k++) {
+        char id[16];
+        snprintf(id, sizeof id, "M%d", k);
+        m[k] = mark(net, id, 0, 0, 10.0 + k, CAIRN_H, k == 0 ? CAIRN_H : 0);
+    }
+    for (int k = 0; k < 12; k++)
+        rise(net, m[k], m[(k + 1) % 12], k < 11 ? 1.0 : -11.0 + 0.012, 0.001, k + 2);
+    ck_assert_msg(run_opt(net, 0, &opt, &p, &adj, msg, sizeof msg) == 0, "%s", msg);
+    ck_assert_int_eq(adj->nunknowns, 11);
+    ck_assert_int_eq(cairn_adjustment_factor(adj)->ordering, CHOLMOD_AMD);
+    for (int k = 1; k < 12; k++)
+        ck_assert_double_eq_tol(adj->h[m[k]], 10.0 + k * 0.999, 1e-9);
+    done(&net, &p, &adj);
+
+    /* three held marks and five new ones on a circle, a distance between
+     * every pair: N is full, 10 unknowns, 5.5 entries per column … */
+    for (int braced = 5; braced <= 7; braced += 2) {
+        net = cairn_net_new();
+        int q[10];
+        int nm = 3 + braced;
+        for (int k = 0; k < nm; k++) {
+            char id[16];
+            snprintf(id, sizeof id, "Q%d", k);
+            double t = 2 * PI_ * k / nm, e = 500 * cos(t), n = 500 * sin(t);
+            q[k] = mark(net, id, e + (k < 3 ? 0 : 0.03), n - (k < 3 ? 0 : 0.02), 0,
+                        CAIRN_E | CAIRN_N, k < 3 ? CAIRN_E | CAIRN_N : 0);
+        }
+        int line = 2;
+        for (int a = 0; a < nm; a++)
+            for (int b = a + 1; b < nm; b++) {
+                double ta = 2 * PI_ * a / nm, tb = 2 * PI_ * b / nm;
+                dist(net, q[a], q[b], hypot(500 * (cos(tb) - cos(ta)), 500 * (sin(tb) - sin(ta))),
+                     0.001, line++);
+            }
+        ck_assert_msg(run_opt(net, 0, &opt, &p, &adj, msg, sizeof msg) == 0, "%s", msg);
+        /* … so 5 braced marks stay under the bound (AMD), 7 (7.5 per column)
+         * go over it (METIS) */
+        ck_assert_int_eq(cairn_adjustment_factor(adj)->ordering,
+                         braced == 5 ? CHOLMOD_AMD : CHOLMOD_METIS);
+        for (int k = 3; k < nm; k++) {
+            double t = 2 * PI_ * k / nm;
+            ck_assert_double_eq_tol(adj->e[q[k]], 500 * cos(t), 1e-7);
+            ck_assert_double_eq_tol(adj->n[q[k]], 500 * sin(t), 1e-7);
+        }
+        done(&net, &p, &adj);
+    }
+}
+END_TEST
+
 static Suite *solve_suite(void)
 {
     Suite *s = suite_create("solve");
@@ -658,6 +728,7 @@ static Suite *solve_suite(void)
     tcase_add_test(tc, far_start_metis);
     tcase_add_test(tc, levenberg_marquardt);
     tcase_add_test(tc, chord_steps);
+    tcase_add_test(tc, auto_ordering_by_pattern);
     suite_add_tcase(s, tc);
     return s;
 }
