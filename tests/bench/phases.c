@@ -130,7 +130,8 @@ int main(int argc, char **argv)
     cholmod_start(&cc);
     cc.print = 0;
     cc.nmethods = 1;
-    cc.method[0].ordering = adj->nunknowns > 20000 ? CHOLMOD_METIS : CHOLMOD_AMD;
+    /* the ordering the adjustment chose (src/solve/normal.c) */
+    cc.method[0].ordering = cairn_adjustment_factor(adj)->ordering;
     cc.supernodal = CHOLMOD_SUPERNODAL;
     cholmod_sparse *N = cholmod_copy_sparse((cholmod_sparse *)cairn_adjustment_normal(adj), &cc);
     double b0 = now();
