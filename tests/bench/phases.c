@@ -2,10 +2,12 @@
  * the yardstick: a bare CHOLMOD analyse + factorise of the same normal
  * matrix with a fresh cholmod_common, timed in the same run.
  *
- * usage: phases FIELDBOOK [OUTDIR [iterate|flag [LABEL]]]
+ * usage: phases FIELDBOOK [OUTDIR [iterate|flag [LABEL [ALPHA]]]]
  * The third argument is the snooping mode (default iterate, the program's
  * default; flag tests every observation once and rejects nothing); LABEL
- * names the kind of network in the first column (default "-").
+ * names the kind of network in the first column (default "-"); ALPHA
+ * replaces the w-test's significance level (the project option alpha,
+ * default 0.001), to measure what a smaller one saves.
  * Prints one Markdown table row:
  * | network | marks | snoop | unknowns | observations | nnz(L) | load | start | build | pattern |
  *   analyse | assemble | factorise (n) | solve | quality+snooping | selinv |
@@ -84,7 +86,7 @@ static void die(const char *what, cairn_error *err)
 int main(int argc, char **argv)
 {
     if (argc < 2) {
-        fprintf(stderr, "usage: phases FIELDBOOK [OUTDIR [iterate|flag [LABEL]]]\n");
+        fprintf(stderr, "usage: phases FIELDBOOK [OUTDIR [iterate|flag [LABEL [ALPHA]]]]\n");
         return 2;
     }
     const char *outdir = argc > 2 ? argv[2] : "/tmp/cairn-bench-out";
@@ -106,6 +108,15 @@ int main(int argc, char **argv)
         die("load", &err);
     double t1 = now();
     mem_note("load");
+    if (argc > 5) {
+        char *end;
+        double a = strtod(argv[5], &end);
+        if (*end || !(a > 0 && a < 1)) {
+            fprintf(stderr, "phases: ALPHA must be a number between 0 and 1\n");
+            return 2;
+        }
+        net->opt.alpha = a;
+    }
     if (cairn_problem_build(net, 0, &prob, &err))
         die("problem", &err);
     double t2 = now();
