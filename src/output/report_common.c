@@ -206,6 +206,26 @@ static const char *plural(size_t n, const char *one, const char *many)
     return n == 1 ? one : many;
 }
 
+/* Each of n independent tests at significance alpha fails with
+ * probability alpha when its observation is sound, so n·alpha of them
+ * are expected to fail by chance (the definition of the significance
+ * level; Baarda 1968, "A Testing Procedure for Use in Geodetic Networks",
+ * ch. 2). The w-tests of one network are correlated, which leaves the
+ * expectation as it is. */
+double cairn_rpt_chance_failures(const cairn_report *r, size_t *ntested)
+{
+    const cairn_report_verdict *v = &r->verdict;
+    cairn_rpt_counts c;
+    cairn_rpt_count(r, &c);
+    size_t nobs = v->nobs ? v->nobs : r->nobs;
+    size_t n = nobs > c.unchecked ? nobs - c.unchecked : 0;
+    if (ntested)
+        *ntested = n;
+    if (!isfinite(v->wcrit) || !(r->opt.alpha > 0 && r->opt.alpha < 1) || n == 0)
+        return NAN;
+    return r->opt.alpha * (double)n;
+}
+
 int cairn_rpt_warnings(const cairn_report *r, void (*emit)(void *ctx, const char *text),
                        void *ctx)
 {
@@ -244,6 +264,22 @@ int cairn_rpt_warnings(const cairn_report *r, void (*emit)(void *ctx, const char
                  "each may hold a blunder that distorts the coordinates.", c.flagged,
                  plural(c.flagged, "observation fails", "observations fail"),
                  plural(c.flagged, "is", "are"));
+        emit(ctx, t);
+        k++;
+    }
+    /* As many failures as chance alone would give (at most 3 standard
+     * deviations of a Poisson count above the expectation: common
+     * practice, no source) says nothing about blunders: on a large
+     * network sound observations are being discarded. */
+    size_t ntested = 0;
+    double chance = cairn_rpt_chance_failures(r, &ntested);
+    size_t failed = c.flagged + c.rejected;
+    if (failed > 0 && chance >= 1.0 && (double)failed <= chance + 3.0 * sqrt(chance)) {
+        snprintf(t, sizeof t, "About %.0f of the %zu w-tests fail BY CHANCE alone at alpha "
+                 "%.4g, and %zu failed here: many of them may be sound observations. Check "
+                 "each in the field records before discarding it. An alpha set for the "
+                 "network as a whole, such as 0.05 / %zu, keeps the chance of any false "
+                 "alarm near 5 %%.", chance, ntested, r->opt.alpha, failed, ntested);
         emit(ctx, t);
         k++;
     }

@@ -364,6 +364,13 @@ static void statistics(html *h)
     }
     snprintf(b, sizeof b, "%zu / %zu", c.flagged, c.rejected);
     kv(h, "flagged / rejected", b);
+    size_t ntested = 0;
+    double chance = cairn_rpt_chance_failures(r, &ntested);
+    if (isfinite(chance)) {
+        snprintf(b, sizeof b, "%.3g (\u03b1 %.4g \u00d7 %zu w-tests)", chance, r->opt.alpha,
+                 ntested);
+        kv(h, "failures expected by chance", b);
+    }
     snprintf(b, sizeof b, "%zu", c.unchecked);
     kv(h, "unchecked (r < 0.01)", b);
     fputs("</tbody></table>\n", h->f);

@@ -284,6 +284,11 @@ static void statistics(txt *t)
         line(t, 32, "  w-test critical value       |w| > %.4g (alpha %.4g; MDB at power %.4g)",
              v->wcrit, r->opt.alpha, r->opt.power);
     line(t, 32, "  flagged / rejected          %zu / %zu", c.flagged, c.rejected);
+    size_t ntested = 0;
+    double chance = cairn_rpt_chance_failures(r, &ntested);
+    if (isfinite(chance))
+        line(t, 32, "  failures expected by chance %.3g (alpha %.4g x %zu w-tests)", chance,
+             r->opt.alpha, ntested);
     line(t, 32, "  unchecked (r < 0.01)        %zu", c.unchecked);
 }
 

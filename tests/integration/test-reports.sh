@@ -217,6 +217,30 @@ if ${CC:-cc} -std=c11 -O2 -o "$tmp/gen" tests/bench/gen.c -lm 2>/dev/null &&
     else
         bad "report.html of $nobs observations does not thin its table"
     fi
+    # The same network with the default snooping: about 11 of its 11 202
+    # w-tests fail by chance at alpha 0.001 (alpha x tests, the meaning of
+    # the significance level), and 12 fail, so the caution must say that
+    # chance explains them; with 40 planted blunders (55 failures) it must
+    # not.
+    "$CAIRN" adjust "$tmp/big.cfb" -o "$tmp/bigi" --format txt --quiet 2>/dev/null
+    tr -s ' \n' ' ' <"$tmp/bigi/report.txt" >"$tmp/bigi.sq"
+    if grep -q "failures expected by chance 11.2 (alpha 0.001 x $nobs w-tests)" "$tmp/bigi.sq" &&
+        grep -q "About 11 of the $nobs w-tests fail BY CHANCE alone" "$tmp/bigi.sq"; then
+        ok "report.txt: failures no more than chance explains are called so"
+    else
+        bad "report.txt of a blunder-free $nobs-observation network does not state the chance failures"
+    fi
+    if "$tmp/gen" --kind plane --marks 800 --seed 3 --blunders 40 -o "$tmp/bigb.cfb" 2>/dev/null; then
+        "$CAIRN" adjust "$tmp/bigb.cfb" -o "$tmp/bigb" --format txt --quiet 2>/dev/null
+        if grep -q "failures expected by chance" "$tmp/bigb/report.txt" &&
+            ! grep -q "BY CHANCE" "$tmp/bigb/report.txt"; then
+            ok "report.txt: 40 planted blunders are not put down to chance"
+        else
+            bad "report.txt puts 40 planted blunders down to chance"
+        fi
+    else
+        bad "cannot run the bench generator with planted blunders"
+    fi
 else
     bad "cannot build or run the bench generator for the large-network report test"
 fi

@@ -317,6 +317,50 @@ START_TEST(txt_failed_test_gon_and_long_words)
 }
 END_TEST
 
+/* The expected number of chance failures, alpha x tests (the meaning of
+ * the significance level), in the statistics of both reports; the
+ * caution says so when the failures are no more than chance explains:
+ * 5000 tests at alpha 0.001 give 5 expected, and 7 failures lie within
+ * 5 + 3 sqrt(5) = 11.7, 23 do not. */
+START_TEST(chance_failures_stated)
+{
+    report_fixture fx;
+    fixture_init(&fx);
+    text t = render(&fx.r, 0);
+    char *sq = squeeze(t.buf);
+    /* 12 observations, 1 unchecked: 11 tests, 0.011 expected, no caution */
+    ck_assert_ptr_nonnull(strstr(sq, "failures expected by chance 0.011 (alpha 0.001 x 11 "
+                                     "w-tests)"));
+    ck_assert_ptr_null(strstr(sq, "BY CHANCE"));
+    free(sq);
+    free(t.buf);
+
+    fx.r.verdict.nobs = 5001;
+    fx.r.verdict.nflagged = 3;
+    fx.r.verdict.nrejected = 4;
+    t = render(&fx.r, 0);
+    sq = squeeze(t.buf);
+    ck_assert_ptr_nonnull(strstr(sq, "failures expected by chance 5 (alpha 0.001 x 5000 "
+                                     "w-tests)"));
+    ck_assert_ptr_nonnull(strstr(sq, "About 5 of the 5000 w-tests fail BY CHANCE alone at "
+                                     "alpha 0.001, and 7 failed here"));
+    ck_assert_ptr_nonnull(strstr(sq, "0.05 / 5000"));
+    free(sq);
+    free(t.buf);
+    t = render(&fx.r, 1);
+    ck_assert_ptr_nonnull(strstr(t.buf, "BY CHANCE"));
+    ck_assert_ptr_nonnull(strstr(t.buf, "failures expected by chance"));
+    free(t.buf);
+
+    fx.r.verdict.nrejected = 20;
+    t = render(&fx.r, 0);
+    sq = squeeze(t.buf);
+    ck_assert_ptr_null(strstr(sq, "BY CHANCE"));
+    free(sq);
+    free(t.buf);
+}
+END_TEST
+
 START_TEST(txt_and_html_empty_report)
 {
     cairn_report r;
@@ -528,6 +572,7 @@ static Suite *suite(void)
     tcase_add_test(tc, txt_width_caution_sections);
     tcase_add_test(tc, txt_failed_test_gon_and_long_words);
     tcase_add_test(tc, txt_and_html_empty_report);
+    tcase_add_test(tc, chance_failures_stated);
     tcase_add_test(tc, txt_free_datum_undetermined);
     tcase_add_test(tc, txt_linear_size);
     suite_add_tcase(s, tc);
