@@ -212,13 +212,12 @@ static const char *plural(size_t n, const char *one, const char *many)
  * level; Baarda 1968, "A Testing Procedure for Use in Geodetic Networks",
  * ch. 2). The w-tests of one network are correlated, which leaves the
  * expectation as it is. */
-double cairn_rpt_chance_failures(const cairn_report *r, size_t *ntested)
+double cairn_rpt_chance_failures(const cairn_report *r, const cairn_rpt_counts *c,
+                                 size_t *ntested)
 {
     const cairn_report_verdict *v = &r->verdict;
-    cairn_rpt_counts c;
-    cairn_rpt_count(r, &c);
     size_t nobs = v->nobs ? v->nobs : r->nobs;
-    size_t n = nobs > c.unchecked ? nobs - c.unchecked : 0;
+    size_t n = nobs > c->unchecked ? nobs - c->unchecked : 0;
     if (ntested)
         *ntested = n;
     if (!isfinite(v->wcrit) || !(r->opt.alpha > 0 && r->opt.alpha < 1) || n == 0)
@@ -272,7 +271,7 @@ int cairn_rpt_warnings(const cairn_report *r, void (*emit)(void *ctx, const char
      * practice, no source) says nothing about blunders: on a large
      * network sound observations are being discarded. */
     size_t ntested = 0;
-    double chance = cairn_rpt_chance_failures(r, &ntested);
+    double chance = cairn_rpt_chance_failures(r, &c, &ntested);
     size_t failed = c.flagged + c.rejected;
     if (failed > 0 && chance >= 1.0 && (double)failed <= chance + 3.0 * sqrt(chance)) {
         snprintf(t, sizeof t, "About %.0f of the %zu w-tests fail BY CHANCE alone at alpha "
@@ -506,8 +505,8 @@ void cairn_rpt_esc(FILE *f, const char *s)
             continue;
         }
         /* a well-formed UTF-8 sequence that is an XML character passes */
-        int len = cairn_fmt_utf8_len(p), ok = len > 0;
-        if (ok) {
+        int len = cairn_fmt_utf8_len(p);
+        if (len > 0) {
             fwrite(p, 1, (size_t)len, f);
             p += len;
         } else {

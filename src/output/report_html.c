@@ -365,7 +365,7 @@ static void statistics(html *h)
     snprintf(b, sizeof b, "%zu / %zu", c.flagged, c.rejected);
     kv(h, "flagged / rejected", b);
     size_t ntested = 0;
-    double chance = cairn_rpt_chance_failures(r, &ntested);
+    double chance = cairn_rpt_chance_failures(r, &c, &ntested);
     if (isfinite(chance)) {
         snprintf(b, sizeof b, "%.3g (\u03b1 %.4g \u00d7 %zu w-tests)", chance, r->opt.alpha,
                  ntested);

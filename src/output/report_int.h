@@ -59,9 +59,10 @@ void cairn_rpt_count(const cairn_report *r, cairn_rpt_counts *c);
 
 /* How many w-tests fail by chance alone when no observation holds a
  * blunder: alpha times the number of observations tested (those not
- * unchecked, rejected ones included), the expected number of type I
+ * unchecked by c, rejected ones included), the expected number of type I
  * errors. *ntested gets that number. NAN when no w-test was made. */
-double cairn_rpt_chance_failures(const cairn_report *r, size_t *ntested);
+double cairn_rpt_chance_failures(const cairn_report *r, const cairn_rpt_counts *c,
+                                 size_t *ntested);
 
 /* The caution's specific warnings, one paragraph each, in a fixed order.
  * Calls emit(ctx, text) for each; returns how many. */

@@ -285,7 +285,7 @@ static void statistics(txt *t)
              v->wcrit, r->opt.alpha, r->opt.power);
     line(t, 32, "  flagged / rejected          %zu / %zu", c.flagged, c.rejected);
     size_t ntested = 0;
-    double chance = cairn_rpt_chance_failures(r, &ntested);
+    double chance = cairn_rpt_chance_failures(r, &c, &ntested);
     if (isfinite(chance))
         line(t, 32, "  failures expected by chance %.3g (alpha %.4g x %zu w-tests)", chance,
              r->opt.alpha, ntested);
