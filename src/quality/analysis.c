@@ -382,7 +382,7 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
                 rc = CAIRN_SOLVE_ENOMEM;
                 goto fail;
             }
-            k = cairn_qa_next_rejections(an, adj->prob, adj->net->nmarks, want, pick);
+            k = cairn_qa_next_rejections(an, &eg, Z, want, pick);
         }
         if (!k && !eg.factor_at_solution) {
             /* The tests just made used the factor of the last round's

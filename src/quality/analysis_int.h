@@ -47,11 +47,13 @@ void cairn_qa_engine_clear(cairn_qa_engine *eg);
 int cairn_qa_engine_reject_many(cairn_qa_engine *eg, const size_t *idx, size_t k,
                                 cairn_error *err);
 
-/* snoop_batch.c: the flagged observations one snooping round rejects (the
- * largest |w| or |tau|, and further ones far from it); writes at most
- * `limit` observation indices to pick and returns how many. */
-size_t cairn_qa_next_rejections(const cairn_analysis *an, const cairn_problem *p,
-                                size_t nmarks, size_t limit, size_t *pick);
+/* snoop_batch.c: the flagged observations one snooping round rejects: the
+ * largest |w| or |tau|, and further ones whose statistic, conditioned on
+ * those taken near them (correlations from Z, NULL without unknowns),
+ * still fails; writes at most `limit` observation indices to pick and
+ * returns how many (at least 1 when anything is flagged). */
+size_t cairn_qa_next_rejections(const cairn_analysis *an, const cairn_qa_engine *eg,
+                                const cairn_selinv *Z, size_t limit, size_t *pick);
 
 /* Refactorise N at the current state (the rows as last linearised). */
 int cairn_qa_engine_refactor(cairn_qa_engine *eg, cairn_error *err);
