@@ -271,8 +271,8 @@ static int conditioned(const batch *b, size_t j, const size_t *S0, const int *ne
     double R[COND_MAX][COND_MAX], rho[COND_MAX], y[COND_MAX];
     size_t S[COND_MAX];
     int ns = 0, sneed[COND_MAX];
-    /* a pick beyond BLOCK_LINES whose correlation is not at hand is left
-     * out, as the blocking rule leaves it out */
+    /* a pick beyond BLOCK_LINES whose correlation is not at hand is
+     * neglected: its effect on j is taken to be small */
     for (int a = 0; a < ns0; a++) {
         double r;
         if (correlation(b, S0[a], j, &r)) {
