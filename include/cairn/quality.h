@@ -373,6 +373,8 @@ typedef struct cairn_analysis {
     size_t max_rejections;  /**< floor(max_reject_fraction · nobs) */
     int reject_limit_hit;   /**< 1 when tests still failed at the limit */
     int snoop_rounds;       /**< re-adjustments made */
+    int snoop_restored;     /**< observations rejected together with a larger
+                                 one and put back once no longer failing */
     int snoop_iterations;   /**< Gauss–Newton iterations of those re-adjustments */
     int snoop_factorisations;
 

@@ -280,6 +280,53 @@ static long next_rejection(const cairn_analysis *an)
     return best;
 }
 
+/* How an observation came to be rejected (cairn_analyse's `how`). */
+enum { HOW_IN = 0, HOW_LEAD = 1, HOW_BATCH = 2, HOW_RESTORED = 3, HOW_GOING_BACK = 4 };
+
+/* The backward step of batched snooping. A round rejects the largest |w|
+ * (what one-at-a-time snooping rejects next) and further observations
+ * that snoop_batch.c judges to fail on their own; it can misjudge one
+ * whose correlation with a larger blunder is outside the selected
+ * inverse (a levelling rise three lines from a 20σ blunder). Such an
+ * observation would never have been rejected one at a time, and after
+ * the round its w as if put back shows it: for an observation left out,
+ * the misfit v to the solution of the others has variance σ² + aQxxaᵀ,
+ * and put back it would get exactly w = v / √(σ² + aQxxaᵀ) (the
+ * prediction residual of a deleted observation: Teunissen, "Adjustment
+ * Theory", Delft University Press 2000, the chapter on recursive least
+ * squares; from memory, chapter not checked; with rᵢ = σ²/(σ² + aQaᵀ)
+ * it is the w of the full network). The entries of Qxx it needs are in
+ * Z: a rejected row keeps its place in N's pattern (snoop.c). Writes the
+ * batch-rejected observations that pass so into back[] and returns how
+ * many; each is put back once at most (how[] says which). */
+static size_t restorable(const cairn_analysis *an, const cairn_qa_engine *eg,
+                         const cairn_selinv *Z, const unsigned char *how, size_t *back)
+{
+    int tau = an->scale_aposteriori && isfinite(an->taucrit);
+    double s0 = tau ? sqrt(an->variance_factor) : 1.0;
+    double crit = tau ? an->taucrit : an->wcrit;
+    size_t m = 0;
+    for (size_t k = 0; k < an->nrejections; k++) {
+        size_t i = an->rejections[k].obs;
+        if (how[i] != HOW_BATCH)
+            continue;
+        double sig = an->adj->sigma[i], q = 0;
+        size_t k0 = eg->rp[i];
+        int cnt = (int)(eg->rp[i + 1] - k0);
+        if (cnt > 0) {
+            double r1 = cairn_redundancy(1.0, eg->rc + k0, eg->ri + k0, cnt,
+                                         cairn_qa_qxx_get, (void *)Z);
+            if (!isfinite(r1))
+                continue;
+            q = 1.0 - r1;   /* aQxxaᵀ */
+        }
+        double w = an->adj->residual[i] / sqrt(sig * sig + q);
+        if (fabs(w / s0) <= crit)
+            back[m++] = i;
+    }
+    return m;
+}
+
 static int selinv(cairn_analysis *an, cairn_qa_engine *eg, cairn_selinv **pZ,
                   cairn_error *err)
 {
@@ -348,7 +395,8 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
                              ? (size_t)floor(frac * (double)adj->nobs + 1e-9) : 0;
     cairn_qa_engine eg;
     cairn_selinv *Z = NULL;
-    size_t *pick = NULL, npick_cap = 0, nrej_cap = 0;
+    size_t *pick = NULL, npick_cap = 0, nrej_cap = 0, *back = NULL, nback_cap = 0;
+    unsigned char *how = NULL;   /* HOW_* of each observation (iterate) */
     int rc;
     memset(&eg, 0, sizeof eg);
     if (alloc_tests(an, adj->nobs)) {
@@ -358,6 +406,11 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
     }
     if ((rc = cairn_qa_engine_init(&eg, adj, err)))
         goto fail;
+    if (opt->snoop == CAIRN_SNOOP_ITERATE && !(how = calloc(adj->nobs ? adj->nobs : 1, 1))) {
+        cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory");
+        rc = CAIRN_SOLVE_ENOMEM;
+        goto fail;
+    }
     for (;;) {
         if ((rc = selinv(an, &eg, &Z, err)))
             goto fail;
@@ -367,6 +420,28 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
         an->t_tests += cairn_qa_now() - tt;
         if (opt->snoop != CAIRN_SNOOP_ITERATE)
             break;
+        /* the backward step first (restorable): the round puts back the
+         * observations it finds, and rejects none within two lines of
+         * them, whose tests did not see them */
+        size_t m = 0;
+        if (an->nrejections > 0) {
+            if (cairn_grow((void **)&back, &nback_cap, an->nrejections, sizeof *back)) {
+                cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory");
+                rc = CAIRN_SOLVE_ENOMEM;
+                goto fail;
+            }
+            m = restorable(an, &eg, Z, how, back);
+            size_t kept = 0;
+            for (size_t j = 0; j < m; j++)
+                how[back[j]] = HOW_GOING_BACK;
+            for (size_t j = 0; j < an->nrejections; j++)
+                if (how[an->rejections[j].obs] != HOW_GOING_BACK)
+                    an->rejections[kept++] = an->rejections[j];
+            for (size_t j = 0; j < m; j++)
+                how[back[j]] = HOW_RESTORED;
+            an->nrejections = kept;
+            an->snoop_restored += (int)m;
+        }
         size_t k = 0;
         if (an->nrejections >= an->max_rejections) {
             an->reject_limit_hit = next_rejection(an) >= 0;
@@ -382,9 +457,9 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
                 rc = CAIRN_SOLVE_ENOMEM;
                 goto fail;
             }
-            k = cairn_qa_next_rejections(an, &eg, Z, want, pick);
+            k = cairn_qa_next_rejections(an, &eg, Z, back, m, want, pick);
         }
-        if (!k && !eg.factor_at_solution) {
+        if (!k && !m && !eg.factor_at_solution) {
             /* The tests just made used the factor of the last round's
              * starting point: right for choosing rejections (the solution
              * moved by a few σ at most, so Q by about 1e-5 of itself), not
@@ -396,12 +471,16 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
                 goto fail;
             continue;
         }
-        if (!k)
+        if (!k && !m)
             break;
         for (size_t j = 0; j < k; j++) {
             size_t i = pick[j];
             cairn_rejection *rj = &an->rejections[an->nrejections++];
             rj->obs = i;
+            /* the round's largest |w| is what one-at-a-time snooping
+             * rejects next, unless the round puts observations back */
+            if (how[i] != HOW_RESTORED)
+                how[i] = j == 0 && m == 0 ? HOW_LEAD : HOW_BATCH;
             rj->round = an->snoop_rounds + 1;
             rj->w = an->w[i];
             rj->tau = an->tau ? an->tau[i] : NAN;
@@ -410,7 +489,7 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
         }
         cairn_selinv_free(&Z);
         double tr = cairn_qa_now(), tf = eg.t_factorise;
-        if ((rc = cairn_qa_engine_reject_many(&eg, pick, k, err)))
+        if ((rc = cairn_qa_engine_reject_many(&eg, pick, k, back, m, err)))
             goto fail;
         an->t_readjust += cairn_qa_now() - tr - (eg.t_factorise - tf);
         an->snoop_rounds++;
@@ -448,6 +527,8 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
     cairn_selinv_free(&Z);
     cairn_qa_engine_clear(&eg);
     free(pick);
+    free(back);
+    free(how);
     /* The factor now holds a selected inverse (computed in place) and N
      * is of no further use: release both, so that nothing can mistake
      * them for a factor (a second cairn_analyse is refused) and their
@@ -462,6 +543,8 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
     return 0;
 fail:
     free(pick);
+    free(back);
+    free(how);
     cairn_selinv_free(&Z);
     cairn_qa_engine_clear(&eg);
     cairn_analysis_free(&an);

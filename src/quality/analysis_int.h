@@ -38,22 +38,25 @@ typedef struct {
 /* Build rows and state from the adjustment at its solution. */
 int cairn_qa_engine_init(cairn_qa_engine *eg, cairn_adjustment *adj, cairn_error *err);
 void cairn_qa_engine_clear(cairn_qa_engine *eg);
-/* Remove the k observations idx[] and re-adjust from the current
- * solution by Gauss–Newton: the first step on a fresh factorisation at the
+/* Remove the k observations idx[], put back the m rejected ones back[],
+ * and re-adjust from the current solution by Gauss–Newton: the first step on a fresh factorisation at the
  * current point, chord steps refined to the Gauss–Newton step after it.
  * Writes the new solution into adj; the factor is left at the round's
  * starting point (factor_at_solution = 0). Returns 0 or a CAIRN_SOLVE_*
  * status. */
 int cairn_qa_engine_reject_many(cairn_qa_engine *eg, const size_t *idx, size_t k,
-                                cairn_error *err);
+                                const size_t *back, size_t m, cairn_error *err);
 
 /* snoop_batch.c: the flagged observations one snooping round rejects: the
  * largest |w| or |tau|, and further ones whose statistic, conditioned on
  * those taken near them (correlations from Z, NULL without unknowns),
- * still fails; writes at most `limit` observation indices to pick and
- * returns how many (at least 1 when anything is flagged). */
+ * still fails; none within two lines of the nwait observations wait[]
+ * (rejected ones this round puts back). Writes at most `limit`
+ * observation indices to pick and returns how many (at least 1 when
+ * anything is flagged and nwait is 0). */
 size_t cairn_qa_next_rejections(const cairn_analysis *an, const cairn_qa_engine *eg,
-                                const cairn_selinv *Z, size_t limit, size_t *pick);
+                                const cairn_selinv *Z, const size_t *wait, size_t nwait,
+                                size_t limit, size_t *pick);
 
 /* Refactorise N at the current state (the rows as last linearised). */
 int cairn_qa_engine_refactor(cairn_qa_engine *eg, cairn_error *err);

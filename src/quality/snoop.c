@@ -471,7 +471,7 @@ static void write_back(cairn_qa_engine *eg, double vtpv)
 }
 
 int cairn_qa_engine_reject_many(cairn_qa_engine *eg, const size_t *idx, size_t k,
-                                cairn_error *err)
+                                const size_t *back, size_t m, cairn_error *err)
 {
     cairn_adjustment *adj = eg->adj;
     double vtpv = 0, minlen = INFINITY, minang = INFINITY, ml = INFINITY, ma = INFINITY;
@@ -481,6 +481,11 @@ int cairn_qa_engine_reject_many(cairn_qa_engine *eg, const size_t *idx, size_t k
         if (idx[j] >= eg->nobs || eg->out[idx[j]])
             return internal(err, "rejecting an observation twice");
         eg->out[idx[j]] = 1;
+    }
+    for (size_t j = 0; j < m; j++) {
+        if (back[j] >= eg->nobs || !eg->out[back[j]])
+            return internal(err, "restoring an observation that is not rejected");
+        eg->out[back[j]] = 0;
     }
     double *y = calloc(3 * nv, sizeof *y);
     if (!y)
@@ -542,7 +547,7 @@ int cairn_qa_engine_reject_many(cairn_qa_engine *eg, const size_t *idx, size_t k
      * follow are the final ones and no second selected inverse is needed
      * when nothing more fails. */
     eg->factor_at_solution = eg->n == 0;
-    if (k <= LAST_ROUND_MAX && (rc = cairn_qa_engine_refactor(eg, err)))
+    if (k + m <= LAST_ROUND_MAX && (rc = cairn_qa_engine_refactor(eg, err)))
         goto done;
     write_back(eg, vtpv);
 done:

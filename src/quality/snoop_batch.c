@@ -387,7 +387,8 @@ static void batch_free(batch *b)
 }
 
 size_t cairn_qa_next_rejections(const cairn_analysis *an, const cairn_qa_engine *eg,
-                                const cairn_selinv *Z, size_t limit, size_t *pick)
+                                const cairn_selinv *Z, const size_t *wait, size_t nwait,
+                                size_t limit, size_t *pick)
 {
     const cairn_problem *p = an->adj->prob;
     size_t nmarks = an->adj->net->nmarks, nc = 0;
@@ -408,7 +409,8 @@ size_t cairn_qa_next_rejections(const cairn_analysis *an, const cairn_qa_engine 
     b.ball = malloc(BALL_MAX * sizeof *b.ball);
     if (!c || !b.held || !b.expanded || !b.pick_head || !b.pick_next || !b.pick_of ||
         !b.seen || !b.ball || build_adjacency(p, nmarks, &b.ptr, &b.adj)) {
-        /* out of memory: fall back to the single largest |w| */
+        /* out of memory: fall back to the single largest |w|, or to
+         * nothing in a round that puts observations back */
         size_t best = 0;
         double bs = -1;
         for (size_t i = 0; i < an->nobs; i++) {
@@ -422,11 +424,15 @@ size_t cairn_qa_next_rejections(const cairn_analysis *an, const cairn_qa_engine 
         }
         free(c);
         batch_free(&b);
+        if (nwait)
+            return 0;
         pick[0] = best;
         return 1;
     }
     for (size_t q = 0; q < nmarks; q++)
         b.pick_head[q] = -1;
+    for (size_t q = 0; q < nwait; q++)
+        hold(&b, wait[q]);   /* put back this round: their neighbours wait */
     nc = 0;
     for (size_t i = 0; i < an->nobs; i++)
         if (an->status[i] == CAIRN_OBS_FLAGGED) {

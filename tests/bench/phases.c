@@ -187,11 +187,11 @@ int main(int argc, char **argv)
            q1 - q0, an->selinv_seconds, q2 - q1, total, bare, b1 - b0, b2 - b1,
            total / bare, peak, bare_mb);
     /* snooping counters, for profiling: stderr, outside the table */
-    fprintf(stderr, "phases: %zu marks: %d snooping rounds, %zu rejections, %d "
-            "re-adjustment iterations, %d factorisations in the analysis; "
+    fprintf(stderr, "phases: %zu marks: %d snooping rounds, %zu rejections (%d put back), "
+            "%d re-adjustment iterations, %d factorisations in the analysis; "
             "factorisation %.3g flop\n",
-            net->nmarks, an->snoop_rounds, an->nrejections, an->snoop_iterations,
-            an->snoop_factorisations, flops);
+            net->nmarks, an->snoop_rounds, an->nrejections, an->snoop_restored,
+            an->snoop_iterations, an->snoop_factorisations, flops);
     fprintf(stderr, "phases: rejections per round:");
     for (int r = 1; r <= an->snoop_rounds; r++) {
         size_t c = 0;
