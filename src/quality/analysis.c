@@ -138,6 +138,17 @@ static void redundancy_part(void *vc, int part, size_t lo, size_t hi)
     }
 }
 
+/* Which statistic the w-tests use: τ = w / s0 against taucrit with the
+ * a-posteriori variance factor (returns 1), else w against wcrit (returns
+ * 0, s0 = 1). */
+static int test_scale(const cairn_analysis *an, double *ps0, double *pcrit)
+{
+    int tau = an->scale_aposteriori && isfinite(an->taucrit);
+    *ps0 = tau ? sqrt(an->variance_factor) : 1.0;
+    *pcrit = tau ? an->taucrit : an->wcrit;
+    return tau;
+}
+
 /* Redundancy numbers, w (τ), MDB and statuses of the observations used,
  * the global test, and the Σr = dof check. Z is NULL when there are no
  * unknowns (then every r is 1). */
@@ -158,9 +169,8 @@ static int test_observations(cairn_analysis *an, const cairn_qa_engine *eg,
     an->nused = used;
     an->dof = (int)used - adj->nunknowns;
     factors(an);
-    int tau = an->scale_aposteriori && isfinite(an->taucrit);
-    double s0 = tau ? sqrt(an->variance_factor) : NAN;
-    double crit = tau ? an->taucrit : an->wcrit;
+    double s0, crit;
+    int tau = test_scale(an, &s0, &crit);
     an->nflagged = an->nunchecked = 0;
     /* the redundancy numbers, the costly part, on several cores */
     for_obs(an, eg, Z, redundancy_part);
@@ -280,8 +290,9 @@ static long next_rejection(const cairn_analysis *an)
     return best;
 }
 
-/* How an observation came to be rejected (cairn_analyse's `how`). */
-enum { HOW_IN = 0, HOW_LEAD = 1, HOW_BATCH = 2, HOW_RESTORED = 3, HOW_GOING_BACK = 4 };
+/* How an observation came to be rejected (cairn_analyse's `how`): as a
+ * round's largest |w|, besides it, or it was put back once already. */
+enum { HOW_LEAD = 1, HOW_BATCH = 2, HOW_RESTORED = 3 };
 
 /* The backward step of batched snooping. A round rejects the largest |w|
  * (what one-at-a-time snooping rejects next) and further observations
@@ -296,34 +307,39 @@ enum { HOW_IN = 0, HOW_LEAD = 1, HOW_BATCH = 2, HOW_RESTORED = 3, HOW_GOING_BACK
  * Theory", Delft University Press 2000, the chapter on recursive least
  * squares; from memory, chapter not checked; with rᵢ = σ²/(σ² + aQaᵀ)
  * it is the w of the full network). The entries of Qxx it needs are in
- * Z: a rejected row keeps its place in N's pattern (snoop.c). Writes the
- * batch-rejected observations that pass so into back[] and returns how
- * many; each is put back once at most (how[] says which). */
-static size_t restorable(const cairn_analysis *an, const cairn_qa_engine *eg,
-                         const cairn_selinv *Z, const unsigned char *how, size_t *back)
+ * Z: a rejected row keeps its place in N's pattern (snoop.c). Moves the
+ * batch-rejected observations that pass so from an->rejections into
+ * back[] (marking them HOW_RESTORED: each goes back once at most) and
+ * returns how many. */
+static size_t put_back(cairn_analysis *an, const cairn_qa_engine *eg,
+                       const cairn_selinv *Z, unsigned char *how, size_t *back)
 {
-    int tau = an->scale_aposteriori && isfinite(an->taucrit);
-    double s0 = tau ? sqrt(an->variance_factor) : 1.0;
-    double crit = tau ? an->taucrit : an->wcrit;
-    size_t m = 0;
+    double s0, crit;
+    test_scale(an, &s0, &crit);
+    size_t m = 0, kept = 0;
     for (size_t k = 0; k < an->nrejections; k++) {
         size_t i = an->rejections[k].obs;
-        if (how[i] != HOW_BATCH)
-            continue;
-        double sig = an->adj->sigma[i], q = 0;
-        size_t k0 = eg->rp[i];
-        int cnt = (int)(eg->rp[i + 1] - k0);
-        if (cnt > 0) {
-            double r1 = cairn_redundancy(1.0, eg->rc + k0, eg->ri + k0, cnt,
-                                         cairn_qa_qxx_get, (void *)Z);
-            if (!isfinite(r1))
-                continue;
-            q = 1.0 - r1;   /* aQxxaᵀ */
+        int pass = 0;
+        if (how[i] == HOW_BATCH) {
+            double sig = an->adj->sigma[i], r1 = 1;
+            size_t k0 = eg->rp[i];
+            int cnt = (int)(eg->rp[i + 1] - k0);
+            if (cnt > 0)
+                r1 = cairn_redundancy(1.0, eg->rc + k0, eg->ri + k0, cnt,
+                                      cairn_qa_qxx_get, (void *)Z);
+            double q = 1.0 - r1;   /* aQxxaᵀ */
+            pass = isfinite(r1) &&
+                   fabs(an->adj->residual[i] / sqrt(sig * sig + q) / s0) <= crit;
         }
-        double w = an->adj->residual[i] / sqrt(sig * sig + q);
-        if (fabs(w / s0) <= crit)
+        if (pass) {
             back[m++] = i;
+            how[i] = HOW_RESTORED;
+        } else {
+            an->rejections[kept++] = an->rejections[k];
+        }
     }
+    an->nrejections = kept;
+    an->snoop_restored += (int)m;
     return m;
 }
 
@@ -420,7 +436,7 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
         an->t_tests += cairn_qa_now() - tt;
         if (opt->snoop != CAIRN_SNOOP_ITERATE)
             break;
-        /* the backward step first (restorable): the round puts back the
+        /* the backward step first (put_back): the round puts back the
          * observations it finds, and rejects none within two lines of
          * them, whose tests did not see them */
         size_t m = 0;
@@ -430,17 +446,7 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
                 rc = CAIRN_SOLVE_ENOMEM;
                 goto fail;
             }
-            m = restorable(an, &eg, Z, how, back);
-            size_t kept = 0;
-            for (size_t j = 0; j < m; j++)
-                how[back[j]] = HOW_GOING_BACK;
-            for (size_t j = 0; j < an->nrejections; j++)
-                if (how[an->rejections[j].obs] != HOW_GOING_BACK)
-                    an->rejections[kept++] = an->rejections[j];
-            for (size_t j = 0; j < m; j++)
-                how[back[j]] = HOW_RESTORED;
-            an->nrejections = kept;
-            an->snoop_restored += (int)m;
+            m = put_back(an, &eg, Z, how, back);
         }
         size_t k = 0;
         if (an->nrejections >= an->max_rejections) {

@@ -39,8 +39,9 @@ typedef struct {
 int cairn_qa_engine_init(cairn_qa_engine *eg, cairn_adjustment *adj, cairn_error *err);
 void cairn_qa_engine_clear(cairn_qa_engine *eg);
 /* Remove the k observations idx[], put back the m rejected ones back[],
- * and re-adjust from the current solution by Gauss–Newton: the first step on a fresh factorisation at the
- * current point, chord steps refined to the Gauss–Newton step after it.
+ * and re-adjust from the current solution by Gauss–Newton: the first
+ * step on a fresh factorisation at the current point, chord steps
+ * refined to the Gauss–Newton step after it.
  * Writes the new solution into adj; the factor is left at the round's
  * starting point (factor_at_solution = 0). Returns 0 or a CAIRN_SOLVE_*
  * status. */

@@ -71,7 +71,7 @@ done
 #     whatever is two lines clear of the round's rejections) rejected one
 #     sound observation more in each;
 #   levelling, 120 marks, seeds 6 and 13: without the backward step
-#     (src/quality/analysis.c, restorable) the rule rejected one and two
+#     (src/quality/analysis.c, put_back) the rule rejected one and two
 #     sound rises three lines from a 20-sigma blunder, whose correlation
 #     with it is outside the selected inverse;
 #   plane, 200 marks, seed 24: one observation taken at w -3.314 ends at
