@@ -94,6 +94,10 @@ typedef struct {
     int tolerance;            /**< 1 every tested pair passes, 0 some fail, -1 none */
     double wcrit;             /**< critical |w| (NAN: not stated) */
     int converged;            /**< 1 converged (0 is reported as a warning) */
+    int snoop_rounds;         /**< re-adjustments by data snooping (0: none) */
+    int nrestored;            /**< observations a round rejected besides its
+                                   largest |w| that a later round put back
+                                   (no longer failing) */
 } cairn_report_verdict;
 
 /** One row of the iteration log. */

@@ -406,6 +406,8 @@ static void fill_verdict(cairn_report *r, const cairn_adjustment *adj,
     v->norientations = norient;
     v->nflagged = an->nflagged > 0 ? (size_t)an->nflagged : 0;
     v->nrejected = an->nrejections;
+    v->snoop_rounds = an->snoop_rounds;
+    v->nrestored = an->snoop_restored > 0 ? an->snoop_restored : 0;
     v->nunchecked = an->nunchecked > 0 ? (size_t)an->nunchecked : 0;
     v->tolerance = an->tolerance_pass;
     v->wcrit = isfinite(an->taucrit) ? an->taucrit : an->wcrit;

@@ -364,6 +364,15 @@ static void statistics(html *h)
     }
     snprintf(b, sizeof b, "%zu / %zu", c.flagged, c.rejected);
     kv(h, "flagged / rejected", b);
+    if (v->snoop_rounds > 0) {
+        if (v->nrestored > 0)
+            snprintf(b, sizeof b, "%d (%d rejection%s undone: no longer failing once "
+                     "a larger |w| was removed)", v->snoop_rounds, v->nrestored,
+                     v->nrestored == 1 ? "" : "s");
+        else
+            snprintf(b, sizeof b, "%d", v->snoop_rounds);
+        kv(h, "snooping rounds", b);
+    }
     size_t ntested = 0;
     double chance = cairn_rpt_chance_failures(r, &c, &ntested);
     if (isfinite(chance)) {

@@ -284,6 +284,12 @@ static void statistics(txt *t)
         line(t, 32, "  w-test critical value       |w| > %.4g (alpha %.4g; MDB at power %.4g)",
              v->wcrit, r->opt.alpha, r->opt.power);
     line(t, 32, "  flagged / rejected          %zu / %zu", c.flagged, c.rejected);
+    if (v->snoop_rounds > 0 && v->nrestored > 0)
+        line(t, 32, "  snooping rounds             %d (%d rejection%s undone: "
+             "no longer failing)", v->snoop_rounds, v->nrestored,
+             v->nrestored == 1 ? "" : "s");
+    else if (v->snoop_rounds > 0)
+        line(t, 32, "  snooping rounds             %d", v->snoop_rounds);
     size_t ntested = 0;
     double chance = cairn_rpt_chance_failures(r, &c, &ntested);
     if (isfinite(chance))

@@ -98,6 +98,23 @@ if ${CC:-cc} -std=c11 -O2 -o "$tmp/gen" "$here/../bench/gen.c" -lm; then
         else
             bad "gen $kind seed $seed: differs from the reference"; sed 's/^/    /' "$tmp/cmp"
         fi
+        # The report states the rounds: the last round of results.xml's
+        # rejections, or one more when that round only undid rejections;
+        # for the levelling cases it says the backward step undid at least
+        # one (without it they fail above).
+        last=$(sed -n 's/.*<rejection [^>]*round="\([0-9]*\)".*/\1/p' "$g/results.xml" |
+               sort -n | tail -1)
+        rl=$(grep '^  snooping rounds ' "$g/report.txt")
+        rounds=$(echo "$rl" | awk '{print $3}')
+        undone=$(echo "$rl" | sed -n 's/.*(\([0-9]*\) rejections* undone.*/\1/p')
+        if [ "$rounds" != "$last" ] &&
+           { [ "$rounds" != $((last + 1)) ] || [ "${undone:-0}" -lt 1 ]; }; then
+            bad "gen $kind seed $seed: report.txt says [$rl], results.xml's last round is $last"
+        elif [ "$kind" = level ] && [ "${undone:-0}" -lt 1 ]; then
+            bad "gen $kind seed $seed: report.txt does not say a rejection was undone: [$rl]"
+        else
+            say "ok   gen $kind seed $seed: report.txt:$rl"
+        fi
     done
 else
     bad "cannot build tests/bench/gen.c"

@@ -105,7 +105,7 @@ static void fixture_init(report_fixture *fx)
                                     NULL, "iterate"};
     /* χ²(5) two-sided 5 % bounds 0.8312, 12.8325 (any χ² table) */
     r->verdict = (cairn_report_verdict){1, 4.1, 0.8312, 12.8325, 1, 5, 4.1, 4.1 / 5,
-                                        FX_NOBS, 6, 2, 1, 1, 1, 0, 3.2905, 1};
+                                        FX_NOBS, 6, 2, 1, 1, 1, 0, 3.2905, 1, 1, 0};
 
     fx->iters[0] = (cairn_report_iter){1, 5123.4, 0.412, "N7.e", 1.0, 0};
     fx->iters[1] = (cairn_report_iter){2, 31.7, 0.0061, "N8.n", 1.0, 0};
