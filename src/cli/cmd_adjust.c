@@ -207,11 +207,15 @@ static void summary(const cairn_adjustment *adj, const cairn_analysis *an,
     else
         printf("  observation test     w, critical value %.4f (alpha %g); "
                "lambda0 %.4g (power %g)\n", an->wcrit, an->alpha, an->lambda0, an->power);
-    printf("  snooping             %s: %d flagged, %zu removed, %d unchecked "
-           "(redundancy below %g)\n",
-           an->snoop == CAIRN_SNOOP_ITERATE ? "iterate" :
-           an->snoop == CAIRN_SNOOP_FLAG ? "flag" : "off",
-           an->nflagged, an->nrejections, an->nunchecked, CAIRN_R_MIN);
+    printf("  snooping             %s: %d flagged, %zu removed", an->snoop == CAIRN_SNOOP_ITERATE
+           ? "iterate" : an->snoop == CAIRN_SNOOP_FLAG ? "flag" : "off", an->nflagged,
+           an->nrejections);
+    if (an->snoop_rounds > 0)
+        printf(" in %d round%s", an->snoop_rounds, an->snoop_rounds == 1 ? "" : "s");
+    if (an->snoop_restored > 0)
+        printf(" (%d earlier removal%s undone: no longer failing)", an->snoop_restored,
+               an->snoop_restored == 1 ? "" : "s");
+    printf(", %d unchecked (redundancy below %g)\n", an->nunchecked, CAIRN_R_MIN);
     /* one screen: the first SCREEN_LIST removals and flags; the reports
      * and results.xml list them all */
     size_t shown = 0;

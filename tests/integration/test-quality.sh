@@ -83,7 +83,7 @@ if ${CC:-cc} -std=c11 -O2 -o "$tmp/gen" "$here/../bench/gen.c" -lm; then
         marks=${rest%%:*} seed=${rest#*:}
         g=$tmp/gen-$kind-$seed
         "$tmp/gen" --kind $kind --marks $marks --seed $seed --blunders 8 -o "$g.cfb"
-        "$CAIRN" adjust "$g.cfb" -o "$g" --quiet
+        "$CAIRN" adjust "$g.cfb" -o "$g" >"$g.screen" 2>/dev/null
         "$PYTHON" ../../reference/cairn_ref.py "$g.cfb" "$g.ref" >/dev/null 2>&1
         got=$(grep ',rejected,' "$g/observations.csv" | cut -d, -f1 | tr '\n' ' ')
         want=$(grep ',rejected,' "$g.ref/observations.csv" | cut -d, -f1 | tr '\n' ' ')
@@ -115,6 +115,12 @@ if ${CC:-cc} -std=c11 -O2 -o "$tmp/gen" "$here/../bench/gen.c" -lm; then
         else
             say "ok   gen $kind seed $seed: report.txt:$rl"
         fi
+        # the screen summary says the same
+        sl=$(grep '^  snooping  ' "$g.screen")
+        s_rounds=$(echo "$sl" | sed -n 's/.* removed in \([0-9]*\) rounds*.*/\1/p')
+        s_undone=$(echo "$sl" | sed -n 's/.*(\([0-9]*\) earlier removals* undone.*/\1/p')
+        [ "$s_rounds" = "$rounds" ] && [ "${s_undone:-0}" = "${undone:-0}" ] ||
+            bad "gen $kind seed $seed: the screen says [$sl], report.txt [$rl]"
     done
 else
     bad "cannot build tests/bench/gen.c"
