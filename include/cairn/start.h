@@ -47,6 +47,15 @@ typedef struct cairn_start_report cairn_start_report;
  *  observations touch which components follows FORMAT.md "Models" (rises
  *  count in 1 and 3, and in 2 only when net->opt.dimension is auto).
  *
+ *  A connected part that these ways cannot enter from its marks with
+ *  coordinates (control marks that see no other control mark, each new
+ *  mark seen from one of them at most) is computed in a local frame of its
+ *  own and fitted to those marks by a similarity transformation when it
+ *  holds two or more of them ("polar from S1 in a local frame, fitted to 4
+ *  marks with coordinates"); a misfit above max(0.05 m, 100 ppm of their
+ *  spread), or a scale more than 1000 ppm from one where there are
+ *  distances, is a CAIRN_SEV_WARNING naming the worst mark.
+ *
  *  With no mark of known position touched by a plane observation, the
  *  station of the first setup is put at e = 0, n = 0 and its first sight
  *  points north; with no known height, the first mark touched by a height

@@ -76,6 +76,8 @@ typedef struct {
     double *omega;           /* per setup: orientation, rad */
     unsigned char *oriented; /* per setup */
     int plane_seed;          /* free-network origin mark, or -1 */
+    int local;               /* 1 in a local-frame pass (start_local.c):
+                                given coordinates are ignored */
 
     cairn_start_report *rep;
     cairn_error *err;
@@ -126,6 +128,17 @@ int cairn_start_parts(const start_ctx *c, int plane, int **proot,
 
 /* Compute every reachable plane position. Returns 0 or -1 (oom). */
 int cairn_start_plane_int(start_ctx *c);
+/* The waves alone: orient what can be oriented and grow outward from the
+ * marks known now until nothing moves. Returns 0 or -1 (oom). */
+int cairn_start_plane_waves(start_ctx *c);
+/* Make setup s's station a free-network origin (e = n = 0, its first
+ * sight pointing north, and with with_scale that target 100 m away).
+ * Returns 1 when seeded, 0 when the setup has no plane sight. */
+int cairn_start_plane_seed_setup(start_ctx *c, size_t s, int with_scale);
+/* start_local.c: the parts the waves left unreached, computed in a local
+ * frame of their own and fitted to their marks with coordinates by a
+ * similarity transformation. Returns 0 or -1 (oom). */
+int cairn_start_plane_local(start_ctx *c);
 /* Why mark m (plane) could not be reached, given its part has a known
  * mark; written into buf. */
 void cairn_start_plane_reason(const start_ctx *c, int m, char *buf, size_t n);

@@ -464,11 +464,13 @@ static int apply(start_ctx *c, const result_t *r)
     const cairn_mark *mk = &c->net->marks[r->mark];
     const char *id1 = r->ref1 >= 0 && r->kind != START_RESECT ? c->net->marks[r->ref1].id : "";
     const char *id2 = r->ref2 >= 0 ? c->net->marks[r->ref2].id : "";
-    /* A component that was given stays; only the missing one is new. */
-    c->e[r->mark] = (mk->given & CAIRN_E) ? mk->e : r->e;
-    c->n[r->mark] = (mk->given & CAIRN_N) ? mk->n : r->n;
+    /* A component that was given stays; only the missing one is new (a
+     * local-frame pass, start_local.c, ignores what was given). */
+    unsigned given = c->local ? 0u : mk->given;
+    c->e[r->mark] = (given & CAIRN_E) ? mk->e : r->e;
+    c->n[r->mark] = (given & CAIRN_N) ? mk->n : r->n;
     c->known[r->mark] |= EN;
-    unsigned comp = EN & ~mk->given;
+    unsigned comp = EN & ~given;
     switch (r->kind) {
     case START_POLAR:
         return cairn_start_add_step(c, r->mark, comp, r->obs1, r->obs2, r->ncand,
@@ -488,10 +490,57 @@ static int apply(start_ctx *c, const result_t *r)
 static void set_seed(start_ctx *c, int m, double e, double n, int obs, const char *what)
 {
     const cairn_mark *mk = &c->net->marks[m];
-    c->e[m] = (mk->given & CAIRN_E) ? mk->e : e;
-    c->n[m] = (mk->given & CAIRN_N) ? mk->n : n;
+    unsigned given = c->local ? 0u : mk->given;
+    c->e[m] = (given & CAIRN_E) ? mk->e : e;
+    c->n[m] = (given & CAIRN_N) ? mk->n : n;
     c->known[m] |= EN;
-    cairn_start_add_step(c, m, EN & ~mk->given, obs, -1, 1, "%s", what);
+    cairn_start_add_step(c, m, EN & ~given, obs, -1, 1, "%s", what);
+}
+
+int cairn_start_plane_seed_setup(start_ctx *c, size_t s, int with_scale)
+{
+    int A = c->net->setups[s].at;
+    if (!valid(c, A) || !(c->need[A] & EN))
+        return 0;
+    int first = -1;
+    for (size_t a = c->set_off[s]; a < c->set_off[s + 1] && first < 0; a++) {
+        const cairn_obs *o = &c->net->obs[c->set_obs[a]];
+        if (o->setup == (int)s && o->at == A && valid(c, o->to) && o->to != A &&
+            cairn_start_is_plane_obs(c, c->set_obs[a]) && o->kind != CAIRN_OBS_ZENITH)
+            first = c->set_obs[a];
+    }
+    if (first < 0)
+        return 0;
+    const cairn_obs *f = &c->net->obs[first];
+    int T = f->to, dir = -1, dist = -1;
+    for (size_t a = c->set_off[s]; a < c->set_off[s + 1]; a++) {
+        int i = c->set_obs[a];
+        const cairn_obs *o = &c->net->obs[i];
+        if (o->setup != (int)s || o->to != T ||
+            (f->sight >= 0 ? o->sight != f->sight : i != first))
+            continue;
+        double d;
+        int approx;
+        if (o->kind == CAIRN_OBS_DIRECTION && dir < 0)
+            dir = i;
+        else if ((o->kind == CAIRN_OBS_HORIZ || o->kind == CAIRN_OBS_SLOPE) &&
+                 dist < 0 && !cairn_start_plane_length(c, i, &d, &approx))
+            dist = i;
+    }
+    set_seed(c, A, 0.0, 0.0, first, "free-network origin");
+    c->plane_seed = A;
+    if (dir >= 0) {
+        c->omega[s] = cairn_wrap_2pi(-hz1(c, dir));
+        c->oriented[s] = 1;
+        if (with_scale && !known_en(c, T))
+            set_seed(c, T, 0.0, 100.0, dir, "free-network scale");
+    } else if (dist >= 0 && !known_en(c, T)) {
+        double d;
+        int approx;
+        cairn_start_plane_length(c, dist, &d, &approx);
+        set_seed(c, T, 0.0, d, dist, "free-network north");
+    }
+    return 1;
 }
 
 /* A network with no known position among the marks that need one: the
@@ -516,50 +565,9 @@ static void seed_plane(start_ctx *c)
              c->net->obs[i].kind == CAIRN_OBS_SLOPE) &&
             cairn_start_is_plane_obs(c, (int)i))
             ndistances = 1;
-    for (size_t s = 0; s < c->ns; s++) {
-        int A = c->net->setups[s].at;
-        if (!valid(c, A) || !(c->need[A] & EN))
-            continue;
-        int first = -1;
-        for (size_t a = c->set_off[s]; a < c->set_off[s + 1] && first < 0; a++) {
-            const cairn_obs *o = &c->net->obs[c->set_obs[a]];
-            if (o->setup == (int)s && o->at == A && valid(c, o->to) && o->to != A &&
-                cairn_start_is_plane_obs(c, c->set_obs[a]) && o->kind != CAIRN_OBS_ZENITH)
-                first = c->set_obs[a];
-        }
-        if (first < 0)
-            continue;
-        const cairn_obs *f = &c->net->obs[first];
-        int T = f->to, dir = -1, dist = -1;
-        for (size_t a = c->set_off[s]; a < c->set_off[s + 1]; a++) {
-            int i = c->set_obs[a];
-            const cairn_obs *o = &c->net->obs[i];
-            if (o->setup != (int)s || o->to != T ||
-                (f->sight >= 0 ? o->sight != f->sight : i != first))
-                continue;
-            double d;
-            int approx;
-            if (o->kind == CAIRN_OBS_DIRECTION && dir < 0)
-                dir = i;
-            else if ((o->kind == CAIRN_OBS_HORIZ || o->kind == CAIRN_OBS_SLOPE) &&
-                     dist < 0 && !cairn_start_plane_length(c, i, &d, &approx))
-                dist = i;
-        }
-        set_seed(c, A, 0.0, 0.0, first, "free-network origin");
-        c->plane_seed = A;
-        if (dir >= 0) {
-            c->omega[s] = cairn_wrap_2pi(-hz1(c, dir));
-            c->oriented[s] = 1;
-            if (!ndistances && !known_en(c, T))
-                set_seed(c, T, 0.0, 100.0, dir, "free-network scale");
-        } else if (dist >= 0 && !known_en(c, T)) {
-            double d;
-            int approx;
-            cairn_start_plane_length(c, dist, &d, &approx);
-            set_seed(c, T, 0.0, d, dist, "free-network north");
-        }
-        return;
-    }
+    for (size_t s = 0; s < c->ns; s++)
+        if (cairn_start_plane_seed_setup(c, s, !ndistances))
+            return;
     for (size_t m = 0; m < c->nm; m++)
         if (c->need[m] & EN) {
             set_seed(c, (int)m, 0.0, 0.0, -1, "free-network origin");
@@ -597,11 +605,8 @@ static void spread(start_ctx *c, int P, int *dirty, size_t *pndirty, unsigned ch
     }
 }
 
-int cairn_start_plane_int(start_ctx *c)
+int cairn_start_plane_waves(start_ctx *c)
 {
-    if (c->dim == 1 || !c->nm)
-        return 0;
-    seed_plane(c);
     size_t nm = c->nm;
     int *dirty = malloc(nm * sizeof *dirty);
     int *deferred = malloc(nm * sizeof *deferred);
@@ -664,6 +669,18 @@ int cairn_start_plane_int(start_ctx *c)
     free(indef);
     free(pend);
     return c->oom ? -1 : 0;
+}
+
+int cairn_start_plane_int(start_ctx *c)
+{
+    if (c->dim == 1 || !c->nm)
+        return 0;
+    seed_plane(c);
+    if (cairn_start_plane_waves(c))
+        return -1;
+    /* Marks the waves could not reach from the marks with coordinates may
+     * still be reachable in a frame of their own (start_local.c). */
+    return c->local ? 0 : cairn_start_plane_local(c);
 }
 
 void cairn_start_plane_reason(const start_ctx *c, int m, char *buf, size_t n)

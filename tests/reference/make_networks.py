@@ -692,9 +692,38 @@ def net_polar_3d():
     return [b]
 
 
+def net_corner_control():
+    b = Book("corner_control.cfb", ["tests: plane network between four held GNSS pillars at the corners of the site,",
+                                    "none of which sees another, and no new mark sees two of them: with its starts",
+                                    "removed (test-starts.sh) it is computed in a local frame and fitted to the",
+                                    "pillars; directions and horiz distances; Corriebrack spillway works"],
+             seed=2919)
+    b.instrument("TS1", TS_1S_TEXT, **TS_1S)
+    for mid, e, n, desc in (("SW-NW", 2004.318, 5012.775, "GNSS pillar, north-west corner"),
+                            ("SW-NE", 2911.640, 5047.209, "GNSS pillar, north-east corner"),
+                            ("SW-SE", 2948.102, 4296.531, "GNSS pillar, south-east corner"),
+                            ("SW-SW", 1979.455, 4248.060, "GNSS pillar, south-west corner")):
+        b.mark(mid, e, n, hold="en", desc=desc)
+    for mid, e, n in (("S1", 2231.907, 4868.402), ("S2", 2702.316, 4903.655), ("S3", 2731.580, 4471.230),
+                      ("S4", 2218.774, 4420.918), ("S5", 2468.235, 4655.109), ("S6", 2452.660, 4970.844),
+                      ("S7", 2495.013, 4350.287)):
+        b.mark(mid, e, n)
+    plan = (("SW-NW", ("S1", "S6")), ("SW-NE", ("S2",)), ("SW-SE", ("S3", "S7")), ("SW-SW", ("S4",)),
+            ("S1", ("SW-NW", "S6", "S5", "S4")), ("S6", ("S1", "SW-NW", "S2", "S5")),
+            ("S2", ("S6", "SW-NE", "S3", "S5")), ("S3", ("S2", "SW-SE", "S7", "S5")),
+            ("S7", ("S3", "SW-SE", "S4", "S5")), ("S4", ("S7", "SW-SW", "S1", "S5")),
+            ("S5", ("S1", "S6", "S2", "S3", "S7", "S4")))
+    for at, tos in plan:
+        b.setup(at)
+        for to in tos:
+            b.sight(to, horiz=True)
+    return [b]
+
+
 ALL = (net_levelling, net_trilateration, net_dirs_dists, net_angles_azimuths, net_threed,
        net_usft_gon, net_ft_deg, net_weighted, net_free, net_dim1, net_dim2, net_grid, net_explicit_sd,
-       net_resection, net_intersection, net_free_traverse, net_loop_traverse, net_polar_3d)
+       net_resection, net_intersection, net_free_traverse, net_loop_traverse, net_polar_3d,
+       net_corner_control)
 
 
 def main(argv):
