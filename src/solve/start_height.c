@@ -59,8 +59,7 @@ int cairn_start_height_edge(const start_ctx *c, int i, int m, int *pother,
         if (is < 0 && c->dim == 1)
             return -1; /* DEVELOPERS.md: dimension 1 needs zen and slope */
         if (is < 0 && ih < 0 &&
-            !(valid(c, first) && valid(c, second) && (c->known[first] & EN) == EN &&
-              (c->known[second] & EN) == EN))
+            !(cairn_start_known_en(c, first) && cairn_start_known_en(c, second)))
             return -1; /* a zenith alone needs both plane positions */
     } else {
         return -1;

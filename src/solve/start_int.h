@@ -86,6 +86,13 @@ typedef struct {
 
 /* ---- start.c: shared helpers ---- */
 
+/* Mark m is a mark index and has both plane components. */
+static inline int cairn_start_known_en(const start_ctx *c, int m)
+{
+    return m >= 0 && (size_t)m < c->nm &&
+           (c->known[m] & (CAIRN_E | CAIRN_N)) == (CAIRN_E | CAIRN_N);
+}
+
 /* Face two for observation i: its own face, or its sight's. */
 int cairn_start_face2(const start_ctx *c, int i);
 /* Face-one zenith angle of sight `sight`, or -1 when it has none. */

@@ -59,15 +59,10 @@ typedef struct {
     int worst_mark;
 } part_fit;
 
-static int is_known(const start_ctx *c, int m)
-{
-    return m >= 0 && (size_t)m < c->nm && (c->known[m] & EN) == EN;
-}
-
 /* Marks with coordinates in both frames (among those that need them). */
 static int common(const start_ctx *c, const start_ctx *L, size_t m)
 {
-    return (c->need[m] & EN) && is_known(c, (int)m) && is_known(L, (int)m);
+    return (c->need[m] & EN) && cairn_start_known_en(c, (int)m) && cairn_start_known_en(L, (int)m);
 }
 
 static void to_real(const part_fit *f, double el, double nl, double *pe, double *pn)
@@ -184,7 +179,7 @@ static size_t choose_parts(const start_ctx *c, const int *root, int *slot)
     for (size_t m = 0; m < c->nm; m++) {
         if (!(c->need[m] & EN))
             continue;
-        if (is_known(c, (int)m))
+        if (cairn_start_known_en(c, (int)m))
             known[root[m]]++;
         else
             missing[root[m]] = 1;
@@ -293,8 +288,8 @@ static size_t carry(start_ctx *c, const start_ctx *L, const int *root, const int
     size_t moved = 0;
     for (size_t m = 0; m < c->nm && !c->oom; m++) {
         int k = slot[root[m]];
-        if (k < 0 || !fit[k].ok || !(c->need[m] & EN) || is_known(c, (int)m) ||
-            !is_known(L, (int)m))
+        if (k < 0 || !fit[k].ok || !(c->need[m] & EN) || cairn_start_known_en(c, (int)m) ||
+            !cairn_start_known_en(L, (int)m))
             continue;
         const cairn_mark *mk = &c->net->marks[m];
         double e, n;

@@ -58,11 +58,6 @@ typedef struct {
     int obs1, obs2, ncand, kind, ref1, ref2;
 } result_t;
 
-static int known_en(const start_ctx *c, int m)
-{
-    return m >= 0 && (size_t)m < c->nm && (c->known[m] & EN) == EN;
-}
-
 static int valid(const start_ctx *c, int m)
 {
     return m >= 0 && (size_t)m < c->nm;
@@ -87,7 +82,7 @@ static void gather(const start_ctx *c, int P, gather_t *g)
         double t = 0.0;
         switch (o->kind) {
         case CAIRN_OBS_DIRECTION:
-            if (o->to == P && o->at != P && known_en(c, o->at) && o->setup >= 0 &&
+            if (o->to == P && o->at != P && cairn_start_known_en(c, o->at) && o->setup >= 0 &&
                 (size_t)o->setup < c->ns) {
                 if (c->oriented[o->setup]) {
                     org = o->at;
@@ -104,23 +99,23 @@ static void gather(const start_ctx *c, int P, gather_t *g)
             }
             break;
         case CAIRN_OBS_AZIMUTH:
-            if (o->to == P && o->from != P && known_en(c, o->from)) {
+            if (o->to == P && o->from != P && cairn_start_known_en(c, o->from)) {
                 org = o->from;
                 t = o->value;
-            } else if (o->from == P && o->to != P && known_en(c, o->to)) {
+            } else if (o->from == P && o->to != P && cairn_start_known_en(c, o->to)) {
                 org = o->to; /* booked from P: the ray back is t + π */
                 t = o->value + CAIRN_PI;
             }
             break;
         case CAIRN_OBS_ANGLE:
             /* FORMAT.md: angle = t(A→T) − t(A→F). */
-            if (o->to == P && o->at != P && o->from != P && known_en(c, o->at) &&
-                known_en(c, o->from)) {
+            if (o->to == P && o->at != P && o->from != P && cairn_start_known_en(c, o->at) &&
+                cairn_start_known_en(c, o->from)) {
                 org = o->at;
                 t = cairn_start_azimuth(c->e[o->at], c->n[o->at], c->e[o->from],
                                         c->n[o->from]) + o->value;
-            } else if (o->from == P && o->at != P && o->to != P && known_en(c, o->at) &&
-                       known_en(c, o->to)) {
+            } else if (o->from == P && o->at != P && o->to != P && cairn_start_known_en(c, o->at) &&
+                       cairn_start_known_en(c, o->to)) {
                 org = o->at;
                 t = cairn_start_azimuth(c->e[o->at], c->n[o->at], c->e[o->to],
                                         c->n[o->to]) - o->value;
@@ -131,7 +126,7 @@ static void gather(const start_ctx *c, int P, gather_t *g)
             int other = o->at == P ? o->to : o->at;
             double d;
             int approx;
-            if (other != P && known_en(c, other) && g->ndist < START_MAX_GATHER &&
+            if (other != P && cairn_start_known_en(c, other) && g->ndist < START_MAX_GATHER &&
                 !cairn_start_plane_length(c, i, &d, &approx)) {
                 dist_t *dd = &g->dist[g->ndist++];
                 dd->org = other;
@@ -163,7 +158,7 @@ static size_t setup_targets(const start_ctx *c, int P, int s, double *E, double 
         int i = c->set_obs[a];
         const cairn_obs *o = &c->net->obs[i];
         if (o->kind != CAIRN_OBS_DIRECTION || o->setup != s || o->at != P ||
-            o->to == P || !known_en(c, o->to))
+            o->to == P || !cairn_start_known_en(c, o->to))
             continue;
         size_t j = 0;
         while (j < k && tgt[j] != o->to)
@@ -184,7 +179,7 @@ static size_t setup_targets(const start_ctx *c, int P, int s, double *E, double 
 static int orient(start_ctx *c, int s)
 {
     int A = c->net->setups[s].at;
-    if (c->oriented[s] || !known_en(c, A))
+    if (c->oriented[s] || !cairn_start_known_en(c, A))
         return 0;
     double w[START_MAX_GATHER];
     size_t k = 0;
@@ -192,7 +187,7 @@ static int orient(start_ctx *c, int s)
         int i = c->set_obs[a];
         const cairn_obs *o = &c->net->obs[i];
         if (o->kind != CAIRN_OBS_DIRECTION || o->setup != s || o->at != A ||
-            o->to == A || !known_en(c, o->to))
+            o->to == A || !cairn_start_known_en(c, o->to))
             continue;
         double t = cairn_start_azimuth(c->e[A], c->n[A], c->e[o->to], c->n[o->to]);
         w[k++] = cairn_wrap_2pi(t - hz1(c, i));
@@ -532,9 +527,9 @@ int cairn_start_plane_seed_setup(start_ctx *c, size_t s, int with_scale)
     if (dir >= 0) {
         c->omega[s] = cairn_wrap_2pi(-hz1(c, dir));
         c->oriented[s] = 1;
-        if (with_scale && !known_en(c, T))
+        if (with_scale && !cairn_start_known_en(c, T))
             set_seed(c, T, 0.0, 100.0, dir, "free-network scale");
-    } else if (dist >= 0 && !known_en(c, T)) {
+    } else if (dist >= 0 && !cairn_start_known_en(c, T)) {
         double d;
         int approx;
         cairn_start_plane_length(c, dist, &d, &approx);
@@ -553,7 +548,7 @@ static void seed_plane(start_ctx *c)
     int any = 0;
     for (size_t m = 0; m < c->nm; m++)
         if (c->need[m] & EN) {
-            if (known_en(c, (int)m))
+            if (cairn_start_known_en(c, (int)m))
                 return;
             any = 1;
         }
@@ -592,14 +587,14 @@ static void spread(start_ctx *c, int P, int *dirty, size_t *pndirty, unsigned ch
         const cairn_obs *o = &c->net->obs[c->adj[a]];
         int ms[3] = {o->at, o->from, o->to};
         for (int j = 0; j < 3; j++)
-            if (valid(c, ms[j]) && (c->need[ms[j]] & EN) && !known_en(c, ms[j]))
+            if (valid(c, ms[j]) && (c->need[ms[j]] & EN) && !cairn_start_known_en(c, ms[j]))
                 push(dirty, pndirty, inq, ms[j]);
         if (o->setup < 0 || (size_t)o->setup >= c->ns || !orient(c, o->setup))
             continue;
         for (size_t b = c->set_off[o->setup]; b < c->set_off[o->setup + 1]; b++) {
             const cairn_obs *q = &c->net->obs[c->set_obs[b]];
             if (q->setup == o->setup && valid(c, q->to) && (c->need[q->to] & EN) &&
-                !known_en(c, q->to))
+                !cairn_start_known_en(c, q->to))
                 push(dirty, pndirty, inq, q->to);
         }
     }
@@ -627,7 +622,7 @@ int cairn_start_plane_waves(start_ctx *c)
     /* The first wave: every mark next to a known one (a mark with no
      * known neighbour has no way in yet). */
     for (size_t m = 0; m < nm; m++)
-        if ((c->need[m] & EN) && known_en(c, (int)m))
+        if ((c->need[m] & EN) && cairn_start_known_en(c, (int)m))
             spread(c, (int)m, dirty, &ndirty, inq);
 
     while (!c->oom) {
@@ -636,7 +631,7 @@ int cairn_start_plane_waves(start_ctx *c)
         for (size_t i = 0; i < ndirty; i++) {
             int P = dirty[i];
             inq[P] = 0;
-            if (known_en(c, P))
+            if (cairn_start_known_en(c, P))
                 continue;
             if (eval(c, P, 0, &pend[npend], &amb))
                 npend++;
@@ -650,7 +645,7 @@ int cairn_start_plane_waves(start_ctx *c)
             for (size_t i = 0; i < ndef; i++) {
                 int P = deferred[i];
                 indef[P] = 0;
-                if (!known_en(c, P) && eval(c, P, 1, &pend[npend], &amb))
+                if (!cairn_start_known_en(c, P) && eval(c, P, 1, &pend[npend], &amb))
                     npend++;
             }
             ndef = 0;
@@ -680,7 +675,7 @@ int cairn_start_plane_int(start_ctx *c)
         return -1;
     /* Marks the waves could not reach from the marks with coordinates may
      * still be reachable in a frame of their own (start_local.c). */
-    return c->local ? 0 : cairn_start_plane_local(c);
+    return cairn_start_plane_local(c);
 }
 
 void cairn_start_plane_reason(const start_ctx *c, int m, char *buf, size_t n)
