@@ -25,8 +25,6 @@
 
 #include "start_int.h"
 
-#define EN (CAIRN_E | CAIRN_N)
-
 static int valid(const start_ctx *c, int m)
 {
     return m >= 0 && (size_t)m < c->nm;
