@@ -302,6 +302,34 @@ typedef struct {
     int pass;              /**< 1 ellipse.a ≤ allowed, 0 above, -1 not tested */
 } cairn_pair;
 
+/** Test of one held mark's given coordinates against the observations
+ *  that touch it: the alternative hypothesis that the held components are
+ *  off by an unknown shift ∇ (q = 1 to 3 parameters), tested by the
+ *  generalised likelihood ratio statistic
+ *      T = ∇̂ᵀ (Cᵀ P Q_v P C) ∇̂,   ∇̂ = (Cᵀ P Q_v P C)⁻¹ Cᵀ P ê,
+ *  C = ∂(observations)/∂(held components), Q_v = P⁻¹ − A Qxx Aᵀ
+ *  (Teunissen, Testing Theory, Delft University Press 2000, ch. 3 and 4,
+ *  the q-dimensional test; from memory). T ~ χ²(q) under H0 with the a
+ *  priori variance factor; critical value χ²(1 − alpha; q), which for
+ *  q = 1 is the w-test's wcrit². Directions of ∇ the observations see with
+ *  a redundancy below CAIRN_R_MIN (for instance across the line of a single
+ *  distance) are left out of T and of ∇̂, and counted out of q. */
+typedef struct {
+    int mark;              /**< mark index */
+    unsigned held;         /**< components tested: CAIRN_E|N|H held and observed */
+    int q;                 /**< testable dimensions (0: untestable, dof too small) */
+    int nobs;              /**< observations used that touch the held components */
+    double statistic;      /**< T; NAN when q = 0 */
+    double critical;       /**< χ²(1 − alpha; q); NAN when q = 0 */
+    double shift[3];       /**< ∇̂ e, n, h (m): where the observations put the mark
+                                relative to its given coordinates; NAN where not held */
+    int pass;              /**< 1 T ≤ critical, 0 fails, -1 untestable */
+    double wmax;           /**< largest |w| of those observations in the same
+                                round (NAN when none was tested): T / critical
+                                above (wmax / wcrit)² says the shift explains
+                                them better than the worst single blunder */
+} cairn_control_test;
+
 /** One observation rejected by iterative snooping, in rejection order. */
 typedef struct {
     size_t obs;            /**< problem index (seq − 1) */
@@ -387,6 +415,17 @@ typedef struct cairn_analysis {
      * solves, refinement), and precision (marks, pairs, external
      * reliability) */
     double t_selinv, t_factorise, t_tests, t_readjust, t_precision;
+    double t_control;       /**< the held-mark tests of every round */
+
+    /* held marks: the test of their given coordinates (cairn_control_test),
+     * one entry per held mark that observations touch, in mark order.
+     * control_first is made before any rejection (all observations in),
+     * control at the final adjustment (rejected observations out); with
+     * no snooping round the two hold the same values. NULL when none. */
+    cairn_control_test *control_first, *control;
+    size_t ncontrol;
+    size_t ncontrol_failed;      /**< entries of control that fail */
+    size_t ncontrol_first_failed;/**< entries of control_first that fail */
 } cairn_analysis;
 
 /** Status of cairn_analyse, beyond 0 and the solve statuses. */

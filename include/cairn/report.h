@@ -149,6 +149,24 @@ typedef struct {
     int pass;                 /**< 1 pass, 0 fail, -1 not tested */
 } cairn_report_pair;
 
+/** The test of a held mark's given coordinates against the observations
+ *  touching it (cairn_control_test in cairn/quality.h): at the final
+ *  adjustment, and before any rejection ("first"). */
+typedef struct {
+    int mark;                 /**< index into cairn_report.marks */
+    unsigned held;            /**< CAIRN_REPORT_E|N|H tested */
+    int nobs, nobs_first;     /**< observations used that touch it */
+    int nrejected;            /**< of its observations, rejected by snooping */
+    int q, q_first;           /**< testable dimensions (0: untestable) */
+    double statistic, critical, statistic_first, critical_first;
+    double shift[3], shift_first[3];  /**< m, e n h: where its observations put
+                                           it from its given coordinates; NAN
+                                           where not held or untestable */
+    int pass, pass_first;     /**< 1 pass, 0 fail, -1 untestable */
+    double wmax_first;        /**< largest |w| of its observations before snooping */
+    double wcrit;             /**< critical |w| of those w-tests */
+} cairn_report_control;
+
 /** Everything a report shows. */
 typedef struct {
     /* the run */
@@ -176,6 +194,9 @@ typedef struct {
 
     /** Further notes shown with the caution (e.g. warnings from loading). */
     const char *const *notes;  size_t nnotes;
+
+    /** The held marks' tests, in mark order (none in a free datum). */
+    const cairn_report_control *controls;  size_t ncontrols;
 } cairn_report;
 
 /** Write report.txt: plain text, lines of at most CAIRN_REPORT_TXT_WIDTH

@@ -122,6 +122,69 @@ static void files_line(const char *dir, unsigned formats)
     printf("\n");
 }
 
+/* Removed and flagged observations (and failing held marks) listed on
+ * screen at most. */
+#define SCREEN_LIST 20
+
+/* Where the observations put held mark t->mark, in words. */
+static void print_shift(const cairn_net *net, const double sh[3])
+{
+    static const char *const pos[3] = {"east", "north", "up"}, *const neg[3] = {"west", "south",
+                                                                               "down"};
+    double lf = cairn_length_factor(net->length_unit);
+    const char *sep = "";
+    for (int c = 0; c < 3; c++)
+        if (isfinite(sh[c])) {
+            printf("%s%.3f %s %s", sep, fabs(sh[c]) / lf, cairn_length_unit_name(net->length_unit),
+                   sh[c] < 0 ? neg[c] : pos[c]);
+            sep = ", ";
+        }
+}
+
+/* The held-mark tests: a count, and each mark that fails, or that failed
+ * before snooping and lost observations to it (the first SCREEN_LIST). */
+static void print_held(const cairn_net *net, const cairn_problem *p, const cairn_analysis *an)
+{
+    if (an->ncontrol == 0)
+        return;
+    printf("  held marks           %zu tested against their observations: %zu fail",
+           an->ncontrol, an->ncontrol_failed);
+    if (an->snoop_rounds > 0)
+        printf(" (before snooping %zu failed)", an->ncontrol_first_failed);
+    printf("\n");
+    size_t shown = 0, more = 0;
+    for (size_t k = 0; k < an->ncontrol; k++) {
+        const cairn_control_test *t = &an->control[k], *t0 = &an->control_first[k];
+        int lost = 0;
+        for (size_t j = 0; j < an->nrejections; j++) {
+            const cairn_obs *o = &p->obs[an->rejections[j].obs];
+            lost += o->at == t->mark || o->from == t->mark || o->to == t->mark;
+        }
+        /* the report's rule (cairn_rpt_control_suspect): the shift beats
+         * the worst single blunder among its observations */
+        double wr = t0->wmax / an->wcrit;
+        int before = t->pass != 0 && t0->pass == 0 && lost > 0 &&
+                     !(isfinite(wr) && wr * wr >= t0->statistic / t0->critical);
+        if (t->pass != 0 && !before)
+            continue;
+        if (shown >= SCREEN_LIST) {
+            more++;
+            continue;
+        }
+        shown++;
+        const cairn_control_test *u = before ? t0 : t;
+        printf("    %s %s (statistic %.4g > %.4g):\n      its observations put it ",
+               net->marks[t->mark].id, before ? "FAILED before snooping" : "FAILS", u->statistic,
+               u->critical);
+        print_shift(net, u->shift);
+        if (before)
+            printf("; %d of its %d observations\n      were then removed", lost, t0->nobs);
+        printf(". Check its given coordinates.\n");
+    }
+    if (more)
+        printf("    ... and %zu more: see report.txt or results.xml\n", more);
+}
+
 /* The diagnosis of observation i under its line in the summary. */
 static void print_cause(const cairn_net *net, const cairn_diagnoses *dg, size_t i)
 {
@@ -148,9 +211,6 @@ static void print_obs_value(const cairn_net *net, const cairn_obs *o, double x)
         printf("%.4f %s", x / cairn_length_factor(net->length_unit),
                cairn_length_unit_name(net->length_unit));
 }
-
-/* Removed and flagged observations listed on screen at most. */
-#define SCREEN_LIST 20
 
 static void summary(const cairn_adjustment *adj, const cairn_analysis *an,
                     const cairn_diagnoses *dg, const char *dir, unsigned formats)
@@ -267,6 +327,7 @@ static void summary(const cairn_adjustment *adj, const cairn_analysis *an,
     if (an->npairs_unavailable)
         printf("  relative precision   %zu pair%s outside the factor pattern, not computed\n",
                an->npairs_unavailable, an->npairs_unavailable == 1 ? "" : "s");
+    print_held(net, p, an);
     if (!adj->datum_free) {
         printf("  datum                held and weighted control as given\n");
     } else {

@@ -225,6 +225,114 @@ double cairn_rpt_chance_failures(const cairn_report *r, const cairn_rpt_counts *
     return r->opt.alpha * (double)n;
 }
 
+const char *cairn_rpt_shift_text(const cairn_report *r, const double shift[3], char *buf,
+                                 size_t n)
+{
+    static const char *const pos[3] = {"east", "north", "up"};
+    static const char *const neg[3] = {"west", "south", "down"};
+    size_t k = 0;
+    if (n)
+        buf[0] = 0;
+    for (int c = 0; c < 3; c++) {
+        if (!isfinite(shift[c]))
+            continue;
+        char v[48];
+        int w = snprintf(buf + k, n > k ? n - k : 0, "%s%s %s %s", k ? ", " : "",
+                         cairn_rpt_len(r, fabs(shift[c]), 3, v, sizeof v), cairn_rpt_lu(r),
+                         shift[c] < 0 ? neg[c] : pos[c]);
+        if (w < 0 || (size_t)w >= (n > k ? n - k : 0))
+            break;
+        k += (size_t)w;
+    }
+    return buf;
+}
+
+int cairn_rpt_control_suspect(const cairn_report_control *c)
+{
+    if (c->pass == 0 || c->pass_first != 0 || c->nrejected == 0)
+        return 0;
+    double wr = c->wmax_first / c->wcrit;
+    return !(isfinite(wr) && wr * wr >= c->statistic_first / c->critical_first);
+}
+
+/* Most held marks the caution names one by one; the rest are counted. */
+#define CONTROL_NAMED 5
+
+/* The held marks whose given coordinates the observations contradict:
+ * those failing at the final adjustment, and those that failed before
+ * snooping and whose observations snooping then rejected (iterative
+ * snooping cannot tell a wrong held coordinate from blunders around it:
+ * it removes the observations that disagree with the mark). Largest
+ * statistic first, as the identification step of the DIA procedure picks
+ * the likeliest alternative (Teunissen, Testing Theory, 2000, ch. 6; from
+ * memory). */
+static int control_warnings(const cairn_report *r, void (*emit)(void *ctx, const char *text),
+                            void *ctx)
+{
+    char t[640], sh[160];
+    int k = 0;
+    for (int kind = 0; kind < 2; kind++) {
+        size_t nsel = 0, named = 0;
+        for (size_t i = 0; i < r->ncontrols; i++) {
+            const cairn_report_control *c = &r->controls[i];
+            nsel += kind == 0 ? c->pass == 0 : cairn_rpt_control_suspect(c);
+        }
+        double last = INFINITY;
+        size_t last_i = (size_t)-1;
+        while (named < nsel && named < CONTROL_NAMED) {
+            /* the next largest statistic (selection: at most 5 passes) */
+            size_t best = (size_t)-1;
+            double bs = -1;
+            for (size_t i = 0; i < r->ncontrols; i++) {
+                const cairn_report_control *c = &r->controls[i];
+                int sel = kind == 0 ? c->pass == 0 : cairn_rpt_control_suspect(c);
+                double st = kind == 0 ? c->statistic : c->statistic_first;
+                if (!sel || st > last || (st == last && i <= last_i))
+                    continue;
+                if (st > bs) {
+                    bs = st;
+                    best = i;
+                }
+            }
+            if (best == (size_t)-1)
+                break;
+            last = bs;
+            last_i = best;
+            const cairn_report_control *c = &r->controls[best];
+            const char *id = cairn_rpt_id(r, c->mark);
+            if (kind == 0)
+                snprintf(t, sizeof t, "Held mark %s FAILS the test of its given coordinates "
+                         "(statistic %.4g > %.4g): its observations put it %s of them. Check "
+                         "its given coordinates against their source: a wrong held mark "
+                         "distorts every mark around it.", id, c->statistic, c->critical,
+                         cairn_rpt_shift_text(r, c->shift, sh, sizeof sh));
+            else
+                snprintf(t, sizeof t, "Before snooping, held mark %s FAILED the test of its "
+                         "given coordinates (statistic %.4g > %.4g; its observations put it "
+                         "%s of them), and snooping then rejected %d of its %d observations. "
+                         "A wrong given coordinate explains such rejections as well as "
+                         "blunders do: check %s's given coordinates against their source "
+                         "before accepting the rejections.", id, c->statistic_first,
+                         c->critical_first, cairn_rpt_shift_text(r, c->shift_first, sh,
+                                                                 sizeof sh),
+                         c->nrejected, c->nobs_first, id);
+            emit(ctx, t);
+            k++;
+            named++;
+        }
+        if (nsel > named) {
+            snprintf(t, sizeof t, "%zu more held %s %s (see Held marks).", nsel - named,
+                     nsel - named == 1 ? "mark" : "marks",
+                     kind == 0 ? "fail the test of their given coordinates"
+                               : "failed that test before snooping, explaining the "
+                                 "observations snooping removed better than one blunder");
+            emit(ctx, t);
+            k++;
+        }
+    }
+    return k;
+}
+
 int cairn_rpt_warnings(const cairn_report *r, void (*emit)(void *ctx, const char *text),
                        void *ctx)
 {
@@ -282,6 +390,7 @@ int cairn_rpt_warnings(const cairn_report *r, void (*emit)(void *ctx, const char
         emit(ctx, t);
         k++;
     }
+    k += control_warnings(r, emit, ctx);
     if (c.unchecked) {
         snprintf(t, sizeof t, "%zu %s UNCHECKED (redundancy number below 0.01): a blunder "
                  "in %s would not show in the residuals.", c.unchecked,

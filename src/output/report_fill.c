@@ -27,6 +27,7 @@ struct cairn_report_store {
     cairn_report_obs *obs;
     char **dtext;               /* per observation: "likely cause" text or NULL */
     cairn_report_pair *pairs;
+    cairn_report_control *controls;
     char **notes;
     size_t nnotes;
     char *command_line;
@@ -52,6 +53,7 @@ static void store_free(struct cairn_report_store *s, size_t nobs)
     free(s->obs);
     free(s->dtext);
     free(s->pairs);
+    free(s->controls);
     free(s->notes);
     free(s->command_line);
     free(s->fixed);
@@ -386,6 +388,59 @@ static int fill_options(cairn_report *r, struct cairn_report_store *s,
     return 0;
 }
 
+/* The held-mark tests, with how many of each mark's observations
+ * snooping rejected. */
+static int fill_controls(cairn_report *r, struct cairn_report_store *s,
+                         const cairn_adjustment *adj, const cairn_analysis *an)
+{
+    if (an->ncontrol == 0)
+        return 0;
+    if (!(s->controls = calloc(an->ncontrol, sizeof *s->controls)))
+        return -1;
+    for (size_t k = 0; k < an->ncontrol; k++) {
+        const cairn_control_test *t = &an->control[k], *t0 = &an->control_first[k];
+        cairn_report_control *c = &s->controls[k];
+        c->mark = idx(s, adj->net, t->mark);
+        c->held = t->held;   /* CAIRN_E|N|H = CAIRN_REPORT_E|N|H */
+        c->nobs = t->nobs;
+        c->nobs_first = t0->nobs;
+        c->q = t->q;
+        c->q_first = t0->q;
+        c->statistic = t->statistic;
+        c->critical = t->critical;
+        c->statistic_first = t0->statistic;
+        c->critical_first = t0->critical;
+        memcpy(c->shift, t->shift, sizeof c->shift);
+        memcpy(c->shift_first, t0->shift, sizeof c->shift_first);
+        c->pass = t->pass;
+        c->pass_first = t0->pass;
+        c->wmax_first = t0->wmax;
+        c->wcrit = an->wcrit;
+    }
+    /* rejections per held mark: a binary search of the mark in the tests */
+    for (size_t j = 0; j < an->nrejections; j++) {
+        const cairn_obs *o = &adj->prob->obs[an->rejections[j].obs];
+        int ms[3] = {o->at, o->from, o->to};
+        for (int t = 0; t < 3; t++) {
+            if (ms[t] < 0 || (t > 0 && ms[t] == ms[0]) || (t > 1 && ms[t] == ms[1]))
+                continue;
+            size_t lo = 0, hi = an->ncontrol;
+            while (lo < hi) {
+                size_t mid = (lo + hi) / 2;
+                if (an->control[mid].mark < ms[t])
+                    lo = mid + 1;
+                else
+                    hi = mid;
+            }
+            if (lo < an->ncontrol && an->control[lo].mark == ms[t])
+                s->controls[lo].nrejected++;
+        }
+    }
+    r->controls = s->controls;
+    r->ncontrols = an->ncontrol;
+    return 0;
+}
+
 static void fill_verdict(cairn_report *r, const cairn_adjustment *adj,
                          const cairn_analysis *an)
 {
@@ -433,7 +488,8 @@ int cairn_report_build(const cairn_adjustment *adj, const cairn_analysis *an,
     fill_verdict(r, adj, an);
     if (fill_marks(r, s, adj, an) || fill_obs(r, s, adj, an, dg) ||
         fill_pairs(r, s, adj, an) || fill_iters(r, s, adj) ||
-        fill_run(r, s, adj, run) || fill_options(r, s, adj, an))
+        fill_run(r, s, adj, run) || fill_options(r, s, adj, an) ||
+        fill_controls(r, s, adj, an))
         goto nomem;
     return 0;
 nomem:

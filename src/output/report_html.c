@@ -389,6 +389,59 @@ static void statistics(html *h)
 
 /* ---- marks --------------------------------------------------------- */
 
+/* ---- held marks ---------------------------------------------------- */
+
+static void control_tr(html *h, int nobs, int q, double st, double crit, int pass,
+                       const double sh[3], const char *id, const char *when)
+{
+    const cairn_report *r = h->r;
+    char b[64];
+    fputs("<tr>", h->f);
+    td(h, id);
+    td(h, when);
+    tdn(h, cairn_rpt_num(st, 2, 0, b, sizeof b), st);
+    tdn(h, cairn_rpt_num(crit, 2, 0, b, sizeof b), crit);
+    snprintf(b, sizeof b, "%d", q);
+    tdn(h, b, q);
+    snprintf(b, sizeof b, "%d", nobs);
+    tdn(h, b, nobs);
+    for (int c = 0; c < 3; c++)
+        tdn(h, cairn_rpt_len(r, sh[c], 4, b, sizeof b), sh[c]);
+    fprintf(h->f, "<td class=\"%s\">%s</td></tr>\n", pass == 1 ? "pass" : pass == 0 ? "fail" :
+            "note", pass == 1 ? "pass" : pass == 0 ? "FAIL" : "untestable");
+}
+
+static void held_marks(html *h)
+{
+    const cairn_report *r = h->r;
+    if (r->ncontrols == 0)
+        return;
+    open_section(h, "held", "Held marks: given coordinates tested against the observations");
+    fprintf(h->f, "<p class=\"note\">For each held mark, the chi-square test "
+            "(\u03b1 %.4g) of the hypothesis that its held components are off by a shift, "
+            "from the observations that touch it; shift: where they put the mark. dim: the "
+            "directions they can test.</p>\n", r->opt.alpha);
+    const char *lu = cairn_rpt_lu(r);
+    char c[3][48];
+    snprintf(c[0], 48, "shift e (%s)", lu);
+    snprintf(c[1], 48, "shift n (%s)", lu);
+    snprintf(c[2], 48, "shift h (%s)", lu);
+    const char *const cols[] = {"mark", "when", "statistic", "critical", "dim", "obs",
+                                c[0], c[1], c[2], "result"};
+    thead(h, "cn-sort cn-held", cols, 10);
+    int rounds = r->verdict.snoop_rounds > 0;
+    for (size_t i = 0; i < r->ncontrols; i++) {
+        const cairn_report_control *k = &r->controls[i];
+        const char *id = cairn_rpt_id(r, k->mark);
+        control_tr(h, k->nobs, k->q, k->statistic, k->critical, k->pass, k->shift, id,
+                   "final");
+        if (rounds)
+            control_tr(h, k->nobs_first, k->q_first, k->statistic_first, k->critical_first,
+                       k->pass_first, k->shift_first, id, "before snooping");
+    }
+    fputs("</tbody></table>\n</div>\n", h->f);
+}
+
 static void sd_td(html *h, const cairn_report_mark *m, unsigned c, double sd)
 {
     char b[64];
@@ -660,6 +713,7 @@ int cairn_report_write_html(const cairn_report *r, FILE *out)
     verdict(&h);
     iterations(&h);
     statistics(&h);
+    held_marks(&h);
     marks(&h);
     worst(&h);
     all_obs(&h);

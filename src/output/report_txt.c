@@ -298,6 +298,47 @@ static void statistics(txt *t)
     line(t, 32, "  unchecked (r < 0.01)        %zu", c.unchecked);
 }
 
+/* ---- held marks ---------------------------------------------------- */
+
+static const char *control_result(int pass)
+{
+    return pass < 0 ? "untestable" : pass ? "pass" : "FAIL";
+}
+
+static void control_row(txt *t, int nobs, int q, double st, double crit, int pass,
+                        const double sh[3], const char *id, const char *when)
+{
+    const cairn_report *r = t->r;
+    char b[5][64];
+    line(t, 80, "  %10s %9s %3d %4d %-10s %9s %9s %9s  %s%s",
+         cairn_rpt_num(st, 2, 0, b[0], 64), cairn_rpt_num(crit, 2, 0, b[1], 64), q, nobs,
+         control_result(pass), cairn_rpt_len(r, sh[0], 4, b[2], 64),
+         cairn_rpt_len(r, sh[1], 4, b[3], 64), cairn_rpt_len(r, sh[2], 4, b[4], 64), id, when);
+}
+
+static void held_marks(txt *t)
+{
+    const cairn_report *r = t->r;
+    if (r->ncontrols == 0)
+        return;
+    heading(t, "Held marks: given coordinates tested against the observations");
+    line(t, 4, "  For each held mark, the chi-square test (alpha %.4g) of the hypothesis "
+         "that its held components are off by a shift, from the observations that touch "
+         "it; shift: where they put the mark, in %s. dim: the directions they can test.",
+         r->opt.alpha, cairn_rpt_lu(r));
+    line(t, 4, "  %10s %9s %3s %4s %-10s %9s %9s %9s  %s", "statistic", "critical", "dim",
+         "obs", "result", "shift e", "shift n", "shift h", "mark");
+    int rounds = r->verdict.snoop_rounds > 0;
+    for (size_t i = 0; i < r->ncontrols; i++) {
+        const cairn_report_control *c = &r->controls[i];
+        const char *id = cairn_rpt_id(r, c->mark);
+        control_row(t, c->nobs, c->q, c->statistic, c->critical, c->pass, c->shift, id, "");
+        if (rounds)
+            control_row(t, c->nobs_first, c->q_first, c->statistic_first, c->critical_first,
+                        c->pass_first, c->shift_first, "", "  (before snooping)");
+    }
+}
+
 /* ---- marks --------------------------------------------------------- */
 
 /* The id column: a long id gets a line of its own above the numbers. */
@@ -506,6 +547,7 @@ int cairn_report_write_txt(const cairn_report *r, FILE *out)
     verdict(&t);
     iterations(&t);
     statistics(&t);
+    held_marks(&t);
     marks(&t);
     worst(&t);
     all_obs(&t);

@@ -237,6 +237,56 @@ static void rejections(FILE *f, const cairn_adjustment *adj, const cairn_analysi
     }
 }
 
+static const char *control_status(int pass)
+{
+    return pass < 0 ? "untestable" : pass ? "pass" : "fail";
+}
+
+/* The attributes of one held-mark test, their names ending in sfx. */
+static void control_attrs(FILE *f, const cairn_control_test *t, const char *sfx, double lf)
+{
+    static const char *const names[] = {"observations", "dimension", "statistic", "critical",
+                                        "status", "w-max", "shift-e", "shift-n", "shift-h"};
+    char nm[9][32];
+    for (int k = 0; k < 9; k++)
+        snprintf(nm[k], sizeof nm[k], "%s%s", names[k], sfx);
+    attr_i(f, nm[0], t->nobs);
+    attr_i(f, nm[1], t->q);
+    attr_g(f, nm[2], t->statistic);
+    attr_g(f, nm[3], t->critical);
+    attr_s(f, nm[4], control_status(t->pass));
+    attr_f(f, nm[5], t->wmax, 7);
+    for (int c = 0; c < 3; c++)
+        if (isfinite(t->shift[c]))
+            attr_f(f, nm[6 + c], t->shift[c] / lf, LEN_DEC);
+}
+
+/* The tests of the held marks' given coordinates (cairn_control_test):
+ * before snooping ("-first") and at the final adjustment. */
+static void control_tests(FILE *f, const cairn_adjustment *adj, const cairn_analysis *an)
+{
+    const cairn_net *net = adj->net;
+    double lf = cairn_length_factor(net->length_unit);
+    for (size_t k = 0; k < an->ncontrol; k++) {
+        const cairn_control_test *t = &an->control[k], *t0 = &an->control_first[k];
+        char comps[4];
+        int nc = 0;
+        if (t->held & CAIRN_E)
+            comps[nc++] = 'e';
+        if (t->held & CAIRN_N)
+            comps[nc++] = 'n';
+        if (t->held & CAIRN_H)
+            comps[nc++] = 'h';
+        comps[nc] = 0;
+        fputs("  <held-mark-test", f);
+        attr_s(f, "mark", net->marks[t->mark].id);
+        attr_s(f, "components", comps);
+        control_attrs(f, t, "", lf);
+        control_attrs(f, t0, "-first", lf);
+        fputs("/>\n", f);
+    }
+}
+
 static void marks(FILE *f, const cairn_adjustment *adj, const cairn_analysis *an)
 {
     const cairn_net *net = adj->net;
@@ -401,6 +451,7 @@ int cairn_write_results_xml_diag(FILE *f, const cairn_adjustment *adj,
     fputs("<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n<cairn-results format=\"1\">\n", f);
     summary(f, adj, an);
     rejections(f, adj, an);
+    control_tests(f, adj, an);
     marks(f, adj, an);
     observations(f, adj, an, dg);
     pairs(f, adj, an);

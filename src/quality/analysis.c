@@ -33,6 +33,7 @@ void cairn_analysis_free(cairn_analysis **pan)
     free(an->r); free(an->w); free(an->mdb); free(an->nabla); free(an->tau);
     free(an->external); free(an->status);
     free(an->pairs); free(an->rejections);
+    free(an->control_first); free(an->control);
     free(an);
     *pan = NULL;
 }
@@ -343,6 +344,35 @@ static size_t put_back(cairn_analysis *an, const cairn_qa_engine *eg,
     return m;
 }
 
+/* The held-mark tests on the factor about to be used up: the first ones
+ * kept in control_first, the latest in control. */
+static int control_tests(cairn_analysis *an, const cairn_qa_engine *eg, cairn_error *err)
+{
+    cairn_control_test *ct = NULL;
+    size_t n = 0;
+    double t0 = cairn_qa_now();
+    if (cairn_qa_control_tests(an, eg, &ct, &n))
+        return cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory"),
+               CAIRN_SOLVE_ENOMEM;
+    an->t_control += cairn_qa_now() - t0;
+    size_t failed = 0;
+    for (size_t k = 0; k < n; k++)
+        failed += ct[k].pass == 0;
+    if (!an->control_first && n) {
+        an->control_first = ct;
+        an->ncontrol_first_failed = failed;
+        if (!(ct = malloc(n * sizeof *ct)))
+            return cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory"),
+                   CAIRN_SOLVE_ENOMEM;
+        memcpy(ct, an->control_first, n * sizeof *ct);
+    }
+    free(an->control);
+    an->control = ct;
+    an->ncontrol = n;
+    an->ncontrol_failed = failed;
+    return 0;
+}
+
 static int selinv(cairn_analysis *an, cairn_qa_engine *eg, cairn_selinv **pZ,
                   cairn_error *err)
 {
@@ -413,6 +443,7 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
     cairn_selinv *Z = NULL;
     size_t *pick = NULL, npick_cap = 0, nrej_cap = 0, *back = NULL, nback_cap = 0;
     unsigned char *how = NULL;   /* HOW_* of each observation (iterate) */
+    int control_w_done = 0;      /* control_first has its wmax */
     int rc;
     memset(&eg, 0, sizeof eg);
     if (alloc_tests(an, adj->nobs)) {
@@ -428,11 +459,19 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
         goto fail;
     }
     for (;;) {
+        if ((rc = control_tests(an, &eg, err)))
+            goto fail;
         if ((rc = selinv(an, &eg, &Z, err)))
             goto fail;
         double tt = cairn_qa_now();
         if ((rc = test_observations(an, &eg, Z, err)))
             goto fail;
+        if (!control_w_done) {
+            /* the first round's w belong with control_first */
+            cairn_qa_control_wmax(an, &eg, an->control_first, an->ncontrol);
+            control_w_done = 1;
+        }
+        cairn_qa_control_wmax(an, &eg, an->control, an->ncontrol);
         an->t_tests += cairn_qa_now() - tt;
         if (opt->snoop != CAIRN_SNOOP_ITERATE)
             break;

@@ -74,4 +74,16 @@ void cairn_qa_marks(cairn_analysis *an, const cairn_selinv *Z);
  * returns 0 or -1 when out of memory. */
 int cairn_qa_pairs(cairn_analysis *an, const cairn_selinv *Z);
 
+/* control.c: the test of every held mark's given coordinates against the
+ * observations touching it (cairn_control_test), on eg's factor, which
+ * must still be a factor (before the selected inverse takes it). Fills
+ * *pout (malloc'd, *pn entries, held marks that observations touch, in
+ * mark order). Returns 0, or -1 when out of memory. */
+/* control.c: fill t[k].wmax of the n tests (in mark order) from the
+ * round's w-tests (an->w of the observations eg uses). */
+void cairn_qa_control_wmax(const cairn_analysis *an, const cairn_qa_engine *eg,
+                           cairn_control_test *t, size_t n);
+int cairn_qa_control_tests(const cairn_analysis *an, const cairn_qa_engine *eg,
+                           cairn_control_test **pout, size_t *pn);
+
 #endif

@@ -201,8 +201,9 @@ int main(int argc, char **argv)
     }
     fprintf(stderr, "\n");
     fprintf(stderr, "phases: analysis seconds: selinv %.2f, factorise %.2f, tests %.2f, "
-            "re-adjust %.2f, precision %.2f\n", an->t_selinv, an->t_factorise, an->t_tests,
-            an->t_readjust, an->t_precision);
+            "re-adjust %.2f, precision %.2f, held-mark tests %.2f (%zu marks)\n", an->t_selinv,
+            an->t_factorise, an->t_tests, an->t_readjust, an->t_precision, an->t_control,
+            an->ncontrol);
     cairn_analysis_free(&an);
     cairn_adjustment_free(&adj);
     cairn_problem_free(&prob);

@@ -20,8 +20,11 @@ When REF_DIR has summary.txt and CAIRN_DIR has results.xml, the summary
 is compared too: dof, vTPv (the global-test statistic), sigma0 squared,
 the chi-square bounds, the global-test outcome, the numbers flagged and
 rejected, which observations snooping rejected (in order), and the
-tolerance outcome; and with pairs.csv, every observed pair's relative
-ellipse axes (1e-6 relative) and tolerance verdict.
+tolerance outcome; with pairs.csv, every observed pair's relative
+ellipse axes (1e-6 relative) and tolerance verdict; and with control.csv,
+every held mark's test of its given coordinates (final and before
+snooping: observations, dimension, status, statistic 1e-6 relative, shift
+1e-6).
 """
 import csv
 import os
@@ -135,6 +138,34 @@ def main():
                 close("allowed", name, num(c.get("allowed")), num(r["allowed"]), 1e-6, rel=True)
                 if (c.get("pass") or "") != r["pass"]:
                     fails.append(f"{name} pass: cairn={c.get('pass')} reference={r['pass']}")
+
+    if os.path.exists(f"{rdir}/control.csv") and os.path.exists(f"{cdir}/results.xml"):
+        # the held-mark tests (include/cairn/quality.h cairn_control_test):
+        # final and before snooping; statistic 1e-6 relative, shift 1e-6
+        _, rc = rows(f"{rdir}/control.csv", lambda x: x["mark"])
+        root = ET.parse(f"{cdir}/results.xml").getroot()
+        cc = {e.get("mark"): e.attrib for e in root.findall("held-mark-test")}
+        if set(cc) != set(rc):
+            fails.append(f"held-mark tests differ: only cairn {sorted(set(cc)-set(rc))[:5]}, "
+                         f"only reference {sorted(set(rc)-set(cc))[:5]}")
+        nfail = 0
+        for m, r in rc.items():
+            c = cc.get(m)
+            if not c:
+                continue
+            for sfx in ("", "_first"):
+                xs = sfx.replace("_", "-")
+                name = f"held mark {m}{xs}"
+                for k in ("observations", "dimension", "status"):
+                    if c.get(k + xs) != r[k + sfx]:
+                        fails.append(f"{name} {k}: cairn={c.get(k + xs)} reference={r[k + sfx]}")
+                close("statistic", name, num(c.get("statistic" + xs)), num(r["statistic" + sfx]),
+                      1e-6, rel=True)
+                for comp in "enh":
+                    close("shift-" + comp, name, num(c.get(f"shift-{comp}{xs}")),
+                          num(r[f"shift_{comp}{sfx}"]), 1e-6)
+            nfail += r["status"] == "fail"
+        notes.append(f"held-mark tests: {len(rc)} marks, {nfail} fail")
 
     for f in fails[:30]:
         print("  MISMATCH", f)

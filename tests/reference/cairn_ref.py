@@ -1010,6 +1010,71 @@ def snoop_iterate(model, fit, qa):
     return fit, qa
 
 
+def control_tests(model, p, A, v, sig, Q, out=frozenset()):
+    """The test of each held mark's given coordinates against the
+    observations touching it (include/cairn/quality.h cairn_control_test):
+    the model gains the columns C of the held components,
+    M = C'PC - C'PA Q A'PC, u = C'Pv, and the directions g of the
+    generalised eigenproblem M g = rho C'PC g with rho >= 0.01 are tested:
+    T = sum (g'u)^2 / rho against chi2(1 - alpha; their number), shift
+    -sum g (g'u) / rho. Dense: Q is the full inverse of N here."""
+    if model.datum != "held":
+        return []
+    net = model.net
+    alpha = net.opts["alpha"]
+    col = {idx: j for j, idx in enumerate(model.unk)}
+    nobs = len(model.obs)
+    P = np.array([0.0 if i in out else 1.0 / sig[i] ** 2 for i in range(nobs)])
+    grads = [o.value(p)[1] for o in model.obs]
+    res = []
+    for m in net.mark_order:
+        mk = net.marks[m]
+        comps = []
+        if m in model.plane and "en" in mk["hold"]:
+            comps += [("e", model.pe(m)), ("n", model.pn(m))]
+        if m in model.height and "h" in mk["hold"]:
+            comps.append(("h", model.ph(m)))
+        # a component no observation touches is not tested (C: problem touch)
+        comps = [(c, idx) for c, idx in comps
+                 if any(g.get(idx, 0.0) != 0.0 for g in grads)]
+        if not comps:
+            continue
+        C = np.array([[g.get(idx, 0.0) for _, idx in comps] for g in grads])
+        rows = [i for i in range(nobs) if P[i] > 0 and np.any(C[i] != 0.0)]
+        if not rows:
+            continue
+        W = C.T @ (C * P[:, None])
+        b = A.T @ (C * P[:, None])
+        M = W - b.T @ Q @ b
+        u = C.T @ (P * v)
+        lam, V = np.linalg.eigh(W)
+        keep = [k for k in range(len(lam)) if lam[k] > 1e-12 * lam[-1] and lam[k] > 0]
+        S = np.array([V[:, k] / math.sqrt(lam[k]) for k in keep])
+        T, shift, q = 0.0, np.zeros(len(comps)), 0
+        if len(keep):
+            rho, Z = np.linalg.eigh(S @ M @ S.T)
+            for k in range(len(rho)):
+                if rho[k] >= 0.01:
+                    g = S.T @ Z[:, k]
+                    a = float(g @ u)
+                    T += a * a / rho[k]
+                    shift -= g * a / rho[k]
+                    q += 1
+        d = dict(mark=m, components="".join(c for c, _ in comps), observations=len(rows),
+                 dimension=q)
+        for c, x in zip([c for c, _ in comps], shift):
+            if q:
+                d["shift_" + c] = float(x)
+        if q:
+            d["statistic"] = T
+            d["critical"] = chi2_ppf(1.0 - alpha, q)
+            d["status"] = "pass" if T <= d["critical"] else "fail"
+        else:
+            d["status"] = "untestable"
+        res.append(d)
+    return res
+
+
 def pairs_and_tolerance(model, p, Q, kconf):
     """Relative ellipses of every pair of marks joined by an observation
     (station with each target; from with to), from Qii + Qjj - 2Qij, and
@@ -1157,6 +1222,26 @@ def write_outputs(model, p, v, sig, Q, it, qa, outdir):
     _write(os.path.join(outdir, "summary.txt"), lines)
 
 
+def write_control(model, ctl, ctl_first, path):
+    """control.csv: the held-mark tests, final and before snooping
+    (compare.py checks them against results.xml's held-mark-test)."""
+    lf = LENGTH_UNITS[model.net.length_unit]
+    keys = ["observations", "dimension", "statistic", "status", "shift_e", "shift_n",
+            "shift_h"]
+    rows = ["mark,components," + ",".join(keys) + "," + ",".join(k + "_first" for k in keys)]
+    first = {d["mark"]: d for d in ctl_first}
+    for d in ctl:
+        cells = [d["mark"], d["components"]]
+        for src in (d, first.get(d["mark"], {})):
+            for k in keys:
+                x = src.get(k)
+                if k.startswith("shift_") and x is not None:
+                    x = x / lf
+                cells.append(num(x) if isinstance(x, float) else ("" if x is None else str(x)))
+        rows.append(",".join(cells))
+    _write(path, rows)
+
+
 def _write(path, rows):
     tmp = path + ".tmp"
     with open(tmp, "w", encoding="utf-8") as fh:
@@ -1284,6 +1369,7 @@ def main(argv):
         model = Model(net, datum)
         fit = adjust(model)
         qa = quality(model, *fit[:5], snoop=snoop)
+        ctl_first = control_tests(model, *fit[:5])
         if snoop == "iterate":
             fit, qa = snoop_iterate(model, fit, qa)
         p, A, v, sig, Q, it = fit
@@ -1294,6 +1380,8 @@ def main(argv):
         print("cairn_ref: %s: error: %s" % (args[0], e), file=sys.stderr)
         return 3
     write_outputs(model, p, v, sig, Q, it, qa, args[1])
+    ctl = control_tests(model, p, A, v, sig, Q, frozenset(i for i, _, _ in qa["rejected"]))
+    write_control(model, ctl, ctl_first, os.path.join(args[1], "control.csv"))
     return 0 if (qa["gt"] != "fail" and "flagged" not in qa["status"]
                  and not qa["rejected"]) else 1
 
