@@ -328,7 +328,26 @@ typedef struct {
                                 round (NAN when none was tested): T / critical
                                 above (wmax / wcrit)² says the shift explains
                                 them better than the worst single blunder */
+    int nrejected;         /**< of its observations, rejected by snooping (set in
+                                `control` at the end of the analysis) */
+    int suspect;           /**< 1 in `control`: see cairn_control_suspect */
+    int alike;             /**< a failing test of another held mark with the same
+                                statistic and dimension (to 1e-9): the
+                                observations cannot tell the two apart, as
+                                with only two held marks; its mark index, or
+                                -1 */
 } cairn_control_test;
+
+/** 1 when held mark test t (final) passes or cannot be made, its test t0
+ *  before snooping failed, snooping rejected some of its observations
+ *  (t->nrejected > 0), and t0's statistic exceeds its critical value by
+ *  more than the worst of its observations' w-tests did,
+ *  T0 / critical0 > (wmax0 / wcrit)²: the wrong held coordinate is then
+ *  the likelier explanation of those rejections (the identification step
+ *  compares each alternative's statistic with its own critical value;
+ *  common practice, no source). */
+int cairn_control_suspect(const cairn_control_test *t, const cairn_control_test *t0,
+                          double wcrit);
 
 /** One observation rejected by iterative snooping, in rejection order. */
 typedef struct {

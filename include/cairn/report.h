@@ -163,8 +163,11 @@ typedef struct {
                                            it from its given coordinates; NAN
                                            where not held or untestable */
     int pass, pass_first;     /**< 1 pass, 0 fail, -1 untestable */
-    double wmax_first;        /**< largest |w| of its observations before snooping */
-    double wcrit;             /**< critical |w| of those w-tests */
+    int suspect;              /**< 1: failed before snooping and explains the
+                                   rejections of its observations better than
+                                   one blunder (cairn_control_suspect) */
+    int alike, alike_first;   /**< index into marks of a held mark whose test
+                                   fails alike (cannot be told apart), or -1 */
 } cairn_report_control;
 
 /** Everything a report shows. */

@@ -143,7 +143,7 @@ static void print_shift(const cairn_net *net, const double sh[3])
 
 /* The held-mark tests: a count, and each mark that fails, or that failed
  * before snooping and lost observations to it (the first SCREEN_LIST). */
-static void print_held(const cairn_net *net, const cairn_problem *p, const cairn_analysis *an)
+static void print_held(const cairn_net *net, const cairn_analysis *an)
 {
     if (an->ncontrol == 0)
         return;
@@ -155,16 +155,7 @@ static void print_held(const cairn_net *net, const cairn_problem *p, const cairn
     size_t shown = 0, more = 0;
     for (size_t k = 0; k < an->ncontrol; k++) {
         const cairn_control_test *t = &an->control[k], *t0 = &an->control_first[k];
-        int lost = 0;
-        for (size_t j = 0; j < an->nrejections; j++) {
-            const cairn_obs *o = &p->obs[an->rejections[j].obs];
-            lost += o->at == t->mark || o->from == t->mark || o->to == t->mark;
-        }
-        /* the report's rule (cairn_rpt_control_suspect): the shift beats
-         * the worst single blunder among its observations */
-        double wr = t0->wmax / an->wcrit;
-        int before = t->pass != 0 && t0->pass == 0 && lost > 0 &&
-                     !(isfinite(wr) && wr * wr >= t0->statistic / t0->critical);
+        int before = t->suspect;
         if (t->pass != 0 && !before)
             continue;
         if (shown >= SCREEN_LIST) {
@@ -178,8 +169,12 @@ static void print_held(const cairn_net *net, const cairn_problem *p, const cairn
                u->critical);
         print_shift(net, u->shift);
         if (before)
-            printf("; %d of its %d observations\n      were then removed", lost, t0->nobs);
+            printf("; %d of its %d observations\n      were then removed", t->nrejected,
+                   t0->nobs);
         printf(". Check its given coordinates.\n");
+        if (u->alike >= 0)
+            printf("      %s fails alike: the observations cannot tell which of the two is "
+                   "wrong.\n", net->marks[u->alike].id);
     }
     if (more)
         printf("    ... and %zu more: see report.txt or results.xml\n", more);
@@ -327,7 +322,7 @@ static void summary(const cairn_adjustment *adj, const cairn_analysis *an,
     if (an->npairs_unavailable)
         printf("  relative precision   %zu pair%s outside the factor pattern, not computed\n",
                an->npairs_unavailable, an->npairs_unavailable == 1 ? "" : "s");
-    print_held(net, p, an);
+    print_held(net, an);
     if (!adj->datum_free) {
         printf("  datum                held and weighted control as given\n");
     } else {

@@ -247,14 +247,6 @@ const char *cairn_rpt_shift_text(const cairn_report *r, const double shift[3], c
     return buf;
 }
 
-int cairn_rpt_control_suspect(const cairn_report_control *c)
-{
-    if (c->pass == 0 || c->pass_first != 0 || c->nrejected == 0)
-        return 0;
-    double wr = c->wmax_first / c->wcrit;
-    return !(isfinite(wr) && wr * wr >= c->statistic_first / c->critical_first);
-}
-
 /* Most held marks the caution names one by one; the rest are counted. */
 #define CONTROL_NAMED 5
 
@@ -273,9 +265,10 @@ static int control_warnings(const cairn_report *r, void (*emit)(void *ctx, const
     int k = 0;
     for (int kind = 0; kind < 2; kind++) {
         size_t nsel = 0, named = 0;
+        int named_marks[CONTROL_NAMED];
         for (size_t i = 0; i < r->ncontrols; i++) {
             const cairn_report_control *c = &r->controls[i];
-            nsel += kind == 0 ? c->pass == 0 : cairn_rpt_control_suspect(c);
+            nsel += kind == 0 ? c->pass == 0 : c->suspect;
         }
         double last = INFINITY;
         size_t last_i = (size_t)-1;
@@ -285,7 +278,7 @@ static int control_warnings(const cairn_report *r, void (*emit)(void *ctx, const
             double bs = -1;
             for (size_t i = 0; i < r->ncontrols; i++) {
                 const cairn_report_control *c = &r->controls[i];
-                int sel = kind == 0 ? c->pass == 0 : cairn_rpt_control_suspect(c);
+                int sel = kind == 0 ? c->pass == 0 : c->suspect;
                 double st = kind == 0 ? c->statistic : c->statistic_first;
                 if (!sel || st > last || (st == last && i <= last_i))
                     continue;
@@ -300,25 +293,37 @@ static int control_warnings(const cairn_report *r, void (*emit)(void *ctx, const
             last_i = best;
             const cairn_report_control *c = &r->controls[best];
             const char *id = cairn_rpt_id(r, c->mark);
+            int other = kind == 0 ? c->alike : c->alike_first, seen = 0;
+            for (size_t j = 0; j < named; j++)
+                seen |= other >= 0 && named_marks[j] == other;
+            named_marks[named++] = c->mark;
+            if (seen)
+                continue;   /* its twin's warning names it */
             if (kind == 0)
                 snprintf(t, sizeof t, "Held mark %s FAILS the test of its given coordinates "
-                         "(statistic %.4g > %.4g): its observations put it %s of them. Check "
+                         "(statistic %.4g > %.4g): its observations put it %s from them. Check "
                          "its given coordinates against their source: a wrong held mark "
                          "distorts every mark around it.", id, c->statistic, c->critical,
                          cairn_rpt_shift_text(r, c->shift, sh, sizeof sh));
             else
                 snprintf(t, sizeof t, "Before snooping, held mark %s FAILED the test of its "
                          "given coordinates (statistic %.4g > %.4g; its observations put it "
-                         "%s of them), and snooping then rejected %d of its %d observations. "
+                         "%s from them), and snooping then rejected %d of its %d observations. "
                          "A wrong given coordinate explains such rejections as well as "
                          "blunders do: check %s's given coordinates against their source "
                          "before accepting the rejections.", id, c->statistic_first,
                          c->critical_first, cairn_rpt_shift_text(r, c->shift_first, sh,
                                                                  sizeof sh),
                          c->nrejected, c->nobs_first, id);
+            if (other >= 0) {
+                size_t len = strlen(t);
+                snprintf(t + len, sizeof t - len, " Held marks %s and %s %s alike: the "
+                         "observations cannot tell which of the two is wrong, or whether both "
+                         "are.", id,
+                         cairn_rpt_id(r, other), kind == 0 ? "fail" : "failed");
+            }
             emit(ctx, t);
             k++;
-            named++;
         }
         if (nsel > named) {
             snprintf(t, sizeof t, "%zu more held %s %s (see Held marks).", nsel - named,

@@ -414,27 +414,10 @@ static int fill_controls(cairn_report *r, struct cairn_report_store *s,
         memcpy(c->shift_first, t0->shift, sizeof c->shift_first);
         c->pass = t->pass;
         c->pass_first = t0->pass;
-        c->wmax_first = t0->wmax;
-        c->wcrit = an->wcrit;
-    }
-    /* rejections per held mark: a binary search of the mark in the tests */
-    for (size_t j = 0; j < an->nrejections; j++) {
-        const cairn_obs *o = &adj->prob->obs[an->rejections[j].obs];
-        int ms[3] = {o->at, o->from, o->to};
-        for (int t = 0; t < 3; t++) {
-            if (ms[t] < 0 || (t > 0 && ms[t] == ms[0]) || (t > 1 && ms[t] == ms[1]))
-                continue;
-            size_t lo = 0, hi = an->ncontrol;
-            while (lo < hi) {
-                size_t mid = (lo + hi) / 2;
-                if (an->control[mid].mark < ms[t])
-                    lo = mid + 1;
-                else
-                    hi = mid;
-            }
-            if (lo < an->ncontrol && an->control[lo].mark == ms[t])
-                s->controls[lo].nrejected++;
-        }
+        c->nrejected = t->nrejected;
+        c->suspect = t->suspect;
+        c->alike = idx(s, adj->net, t->alike);
+        c->alike_first = idx(s, adj->net, t0->alike);
     }
     r->controls = s->controls;
     r->ncontrols = an->ncontrol;

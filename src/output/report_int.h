@@ -70,15 +70,6 @@ double cairn_rpt_chance_failures(const cairn_report *r, const cairn_rpt_counts *
 const char *cairn_rpt_shift_text(const cairn_report *r, const double shift[3], char *buf,
                                  size_t n);
 
-/* 1 when held mark c passes (or cannot be tested) at the end but failed
- * before snooping, snooping removed some of its observations, and its
- * test then exceeded its critical value by more than any single one of
- * its observations' w-tests did (T / critical > (wmax / wcrit)²): the
- * wrong held coordinate is the likelier explanation of the removals
- * (the identification step compares the alternatives' statistics
- * against their own critical values; common practice, no source). */
-int cairn_rpt_control_suspect(const cairn_report_control *c);
-
 /* The caution's specific warnings, one paragraph each, in a fixed order.
  * Calls emit(ctx, text) for each; returns how many. */
 int cairn_rpt_warnings(const cairn_report *r, void (*emit)(void *ctx, const char *text),

@@ -243,12 +243,14 @@ static const char *control_status(int pass)
 }
 
 /* The attributes of one held-mark test, their names ending in sfx. */
-static void control_attrs(FILE *f, const cairn_control_test *t, const char *sfx, double lf)
+static void control_attrs(FILE *f, const cairn_net *net, const cairn_control_test *t,
+                          const char *sfx, double lf)
 {
     static const char *const names[] = {"observations", "dimension", "statistic", "critical",
-                                        "status", "w-max", "shift-e", "shift-n", "shift-h"};
-    char nm[9][32];
-    for (int k = 0; k < 9; k++)
+                                        "status", "w-max", "shift-e", "shift-n", "shift-h",
+                                        "alike"};
+    char nm[10][32];
+    for (int k = 0; k < 10; k++)
         snprintf(nm[k], sizeof nm[k], "%s%s", names[k], sfx);
     attr_i(f, nm[0], t->nobs);
     attr_i(f, nm[1], t->q);
@@ -259,6 +261,8 @@ static void control_attrs(FILE *f, const cairn_control_test *t, const char *sfx,
     for (int c = 0; c < 3; c++)
         if (isfinite(t->shift[c]))
             attr_f(f, nm[6 + c], t->shift[c] / lf, LEN_DEC);
+    if (t->alike >= 0)
+        attr_s(f, nm[9], net->marks[t->alike].id);
 }
 
 /* The tests of the held marks' given coordinates (cairn_control_test):
@@ -281,8 +285,8 @@ static void control_tests(FILE *f, const cairn_adjustment *adj, const cairn_anal
         fputs("  <held-mark-test", f);
         attr_s(f, "mark", net->marks[t->mark].id);
         attr_s(f, "components", comps);
-        control_attrs(f, t, "", lf);
-        control_attrs(f, t0, "-first", lf);
+        control_attrs(f, net, t, "", lf);
+        control_attrs(f, net, t0, "-first", lf);
         fputs("/>\n", f);
     }
 }

@@ -539,6 +539,7 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
         an->t_readjust += cairn_qa_now() - tr - (eg.t_factorise - tf);
         an->snoop_rounds++;
     }
+    cairn_qa_control_final(an);
     an->snoop_iterations = eg.iterations;
     an->snoop_factorisations = eg.factorisations;
     an->t_factorise = eg.t_factorise;

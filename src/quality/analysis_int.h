@@ -83,6 +83,9 @@ int cairn_qa_pairs(cairn_analysis *an, const cairn_selinv *Z);
  * round's w-tests (an->w of the observations eg uses). */
 void cairn_qa_control_wmax(const cairn_analysis *an, const cairn_qa_engine *eg,
                            cairn_control_test *t, size_t n);
+/* control.c: at the end of the analysis, each held mark's rejected
+ * observations (nrejected) and the suspect flag of an->control. */
+void cairn_qa_control_final(cairn_analysis *an);
 int cairn_qa_control_tests(const cairn_analysis *an, const cairn_qa_engine *eg,
                            cairn_control_test **pout, size_t *pn);
 

@@ -449,3 +449,75 @@ void cairn_qa_control_wmax(const cairn_analysis *an, const cairn_qa_engine *eg,
         }
     }
 }
+
+int cairn_control_suspect(const cairn_control_test *t, const cairn_control_test *t0,
+                          double wcrit)
+{
+    if (t->pass == 0 || t0->pass != 0 || t->nrejected <= 0)
+        return 0;
+    double wr = t0->wmax / wcrit;
+    return !(isfinite(wr) && wr * wr >= t0->statistic / t0->critical);
+}
+
+typedef struct {
+    double statistic;
+    int q;
+    size_t k;
+} stat_key;
+
+static int by_stat(const void *a, const void *b)
+{
+    const stat_key *x = a, *y = b;
+    if (x->q != y->q)
+        return x->q - y->q;
+    return (x->statistic > y->statistic) - (x->statistic < y->statistic);
+}
+
+/* alike of each failing test of t[0..n): the neighbour in (q, statistic)
+ * order with the same q and a statistic within 1e-9 relative. */
+static void mark_alike(cairn_control_test *t, size_t n)
+{
+    for (size_t k = 0; k < n; k++)
+        t[k].alike = -1;
+    stat_key *key = malloc((n ? n : 1) * sizeof *key);
+    size_t m = 0;
+    if (!key)
+        return;   /* the remark is left out, nothing else */
+    for (size_t k = 0; k < n; k++)
+        if (t[k].pass == 0)
+            key[m++] = (stat_key){t[k].statistic, t[k].q, k};
+    qsort(key, m, sizeof *key, by_stat);
+    for (size_t j = 0; j + 1 < m; j++)
+        if (key[j].q == key[j + 1].q &&
+            fabs(key[j + 1].statistic - key[j].statistic) <= 1e-9 * key[j + 1].statistic) {
+            cairn_control_test *a = &t[key[j].k], *b = &t[key[j + 1].k];
+            if (a->alike < 0)
+                a->alike = b->mark;
+            if (b->alike < 0)
+                b->alike = a->mark;
+        }
+    free(key);
+}
+
+void cairn_qa_control_final(cairn_analysis *an)
+{
+    const cairn_problem *prob = an->adj->prob;
+    for (size_t j = 0; j < an->nrejections; j++) {
+        const cairn_obs *o = &prob->obs[an->rejections[j].obs];
+        int ms[3] = {o->at, o->from, o->to};
+        for (int s = 0; s < 3; s++) {
+            if (ms[s] < 0 || (s > 0 && ms[s] == ms[0]) || (s > 1 && ms[s] == ms[1]))
+                continue;
+            cairn_control_test *c = find_test(an->control, an->ncontrol, ms[s]);
+            if (c)
+                c->nrejected++;
+        }
+    }
+    mark_alike(an->control, an->ncontrol);
+    mark_alike(an->control_first, an->ncontrol);
+    for (size_t k = 0; k < an->ncontrol; k++) {
+        an->control_first[k].nrejected = an->control[k].nrejected;
+        an->control[k].suspect =
+            cairn_control_suspect(&an->control[k], &an->control_first[k], an->wcrit);
+    }
+}

@@ -100,4 +100,10 @@ if in_range "$hb" -0.035 -0.025 && in_range "$ha" 0.025 0.035; then
 else
     bad "bench: shifts BM-B $hb, BM-A $ha"
 fi
+if [ "$(attr "$x" BM-B alike)" = BM-A ] &&
+   sed -n '1,/^====/p' "$tmp/bench/c/report.txt" | grep -q 'Held marks BM-B and BM-A fail alike'; then
+    ok "bench: the caution says the observations cannot tell BM-A from BM-B"
+else
+    bad "bench: no 'fail alike' for BM-A and BM-B"; sed -n '1,/^====/p' "$tmp/bench/c/report.txt" | sed 's/^/    /'
+fi
 exit $fail
