@@ -52,9 +52,12 @@ typedef struct cairn_start_report cairn_start_report;
  *  mark seen from one of them at most) is computed in a local frame of its
  *  own and fitted to those marks by a similarity transformation when it
  *  holds two or more of them ("polar from S1 in a local frame, fitted to 4
- *  marks with coordinates"); a misfit above max(0.05 m, 100 ppm of their
- *  spread), or a scale more than 1000 ppm from one where there are
- *  distances, is a CAIRN_SEV_WARNING naming the worst mark.
+ *  marks with coordinates"; a part of distances only takes the better of
+ *  that fit and its mirror image, "... as its mirror image"); a misfit
+ *  above max(0.05 m, 100 ppm of their spread; 1000 ppm for distances
+ *  only), or a scale more than 1000 ppm from one where there are
+ *  distances, is a CAIRN_SEV_WARNING naming the worst mark. Ambiguous
+ *  trilaterations are settled one at a time, the longest waiting first.
  *
  *  With no mark of known position touched by a plane observation, the
  *  station of the first setup is put at e = 0, n = 0 and its first sight

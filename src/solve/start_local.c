@@ -26,15 +26,16 @@
  * observations: all such parts share one local pass.
  *
  * What it checks. The common marks must fit: a misfit above max(0.05 m,
- * 100 ppm of their spread), or a scale more than 1000 ppm from one where
+ * 100 ppm of their spread; 1000 ppm for a part of distances only), or a scale more than 1000 ppm from one where
  * the part has distances, is a warning that names the worst mark, since a
  * held mark with wrong coordinates would otherwise be smeared into the
  * network by the adjustment (both limits common practice, no source).
- * A part of distances only has no handedness, and its local frame may be
- * the mirror image of the real one (start_plane.c settles an ambiguous
- * trilateration by a fixed rule); the misfit warning then says so. The
- * mirror image is not fitted instead: such a frame is rarely mirrored as a
- * whole, one ambiguous trilateration at a time. */
+ * A part of distances only has no handedness: its local frame may be the
+ * mirror image of the real one (start_plane.c settles an ambiguous
+ * trilateration by a fixed rule), so for such a part the reflected
+ * similarity is fitted too and the better of the two is taken; a frame
+ * mirrored only in places still misses, and the misfit warning says that
+ * it may be. */
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -45,13 +46,18 @@
 
 /* One part's fit. With x, y local and X, Y real coordinates taken from
  * their centroids, the least-squares [a −b; b a] has a = (Sxx + Syy)/S and
- * b = (Sxy − Syx)/S, S = Σ(x² + y²), where Sxy = Σ x·Y and so on. */
+ * b = (Sxy − Syx)/S, S = Σ(x² + y²), where Sxy = Σ x·Y and so on; the
+ * reflected [a b; b −a] has a = (Sxx − Syy)/S and b = (Sxy + Syx)/S. Each
+ * leaves Σ(X² + Y²) − S(a² + b²) as its squared misfit, so the larger
+ * a² + b² fits better (the derivation is that of the ordinary
+ * four-parameter fit with y replaced by −y). */
 typedef struct {
     size_t n;                   /* common marks */
     double le, ln, re, rn;      /* centroids: local, real */
     double S, Sxx, Syy, Sxy, Syx;
     double spread;              /* largest distance from the centroid, m */
     double a, b;                /* the fit */
+    int mirror;                 /* 1: the reflected fit [a b; b −a] */
     int handed;                 /* the part has directions, angles or azimuths */
     int distances;              /* the part has plane distances */
     int ok;
@@ -68,6 +74,8 @@ static int common(const start_ctx *c, const start_ctx *L, size_t m)
 static void to_real(const part_fit *f, double el, double nl, double *pe, double *pn)
 {
     double x = el - f->le, y = nl - f->ln;
+    if (f->mirror)
+        y = -y;
     *pe = f->re + f->a * x - f->b * y;
     *pn = f->rn + f->b * x + f->a * y;
 }
@@ -128,8 +136,17 @@ static void judge(start_ctx *c, const start_ctx *L, const int *root, const int *
 {
     for (size_t k = 0; k < nfit; k++)
         if (fit[k].ok) {
-            fit[k].a = (fit[k].Sxx + fit[k].Syy) / fit[k].S;
-            fit[k].b = (fit[k].Sxy - fit[k].Syx) / fit[k].S;
+            part_fit *f = &fit[k];
+            f->a = (f->Sxx + f->Syy) / f->S;
+            f->b = (f->Sxy - f->Syx) / f->S;
+            /* reflected, written as the ordinary fit of (x, −y): with
+             * y → −y, Syy → −Syy and Syx → −Syx */
+            double am = (f->Sxx - f->Syy) / f->S, bm = (f->Sxy + f->Syx) / f->S;
+            if (!f->handed && f->n >= 3 && am * am + bm * bm > f->a * f->a + f->b * f->b) {
+                f->a = am;
+                f->b = bm;
+                f->mirror = 1;
+            }
         }
     misfit(c, L, root, slot, fit, nfit);
     for (size_t k = 0; k < nfit; k++) {
@@ -138,7 +155,12 @@ static void judge(start_ctx *c, const start_ctx *L, const int *root, const int *
             continue;
         const cairn_src *s = mark_src(c, f->worst_mark);
         const char *id = c->net->marks[f->worst_mark].id;
-        double lim = 1e-4 * f->spread > 0.05 ? 1e-4 * f->spread : 0.05;
+        /* chains of trilaterations carry more error than polar steps:
+         * 1000 ppm for a part of distances only (common practice, no
+         * source; a wrong held mark there is still found by the
+         * adjustment's held-mark test) */
+        double ppm = f->handed ? 1e-4 : 1e-3;
+        double lim = ppm * f->spread > 0.05 ? ppm * f->spread : 0.05;
         double scale = hypot(f->a, f->b);
         if (f->worst > lim) {
             c->rep->nwarnings++;
@@ -303,8 +325,8 @@ static size_t carry(start_ctx *c, const start_ctx *L, const int *root, const int
         const char *how = i >= 0 ? lr->pool + lr->method_off[i] : "local frame";
         cairn_start_add_step(c, (int)m, EN & ~mk->given, i >= 0 ? lr->steps[i].obs1 : -1,
                              i >= 0 ? lr->steps[i].obs2 : -1, i >= 0 ? lr->steps[i].ncand : 1,
-                             "%s in a local frame, fitted to %zu marks with coordinates",
-                             how, fit[k].n);
+                             "%s in a local frame, fitted to %zu marks with coordinates%s",
+                             how, fit[k].n, fit[k].mirror ? " as its mirror image" : "");
         moved++;
     }
     free(step);

@@ -616,7 +616,8 @@ int cairn_start_plane_waves(start_ctx *c)
         free(pend);
         return -1;
     }
-    size_t ndirty = 0, ndef = 0;
+    /* deferred: a ring of at most nm marks (indef keeps each in it once) */
+    size_t ndirty = 0, dhead = 0, ndef = 0;
     for (size_t s = 0; s < c->ns; s++)
         orient(c, (int)s);
     /* The first wave: every mark next to a known one (a mark with no
@@ -635,20 +636,27 @@ int cairn_start_plane_waves(start_ctx *c)
                 continue;
             if (eval(c, P, 0, &pend[npend], &amb))
                 npend++;
-            else if (amb)
-                push(deferred, &ndef, indef, P);
+            else if (amb && !indef[P]) {
+                indef[P] = 1;
+                deferred[(dhead + ndef++) % nm] = P;
+            }
         }
         ndirty = 0;
         if (!npend) {
-            /* Nothing else moves: settle the ambiguous trilaterations
-             * deterministically (with a warning) and go on from there. */
-            for (size_t i = 0; i < ndef; i++) {
-                int P = deferred[i];
+            /* Nothing else moves: settle one ambiguous trilateration, the
+             * longest waiting, deterministically (with a warning), and go
+             * on from there: the marks it fixes may decide the others'
+             * circle points (settling them all at once could mirror parts
+             * of the network against each other). Each mark leaves the
+             * ring once per entry, so this stays linear. */
+            while (ndef > 0 && !npend) {
+                int P = deferred[dhead];
+                dhead = (dhead + 1) % nm;
+                ndef--;
                 indef[P] = 0;
                 if (!cairn_start_known_en(c, P) && eval(c, P, 1, &pend[npend], &amb))
                     npend++;
             }
-            ndef = 0;
             if (!npend)
                 break;
         }

@@ -720,10 +720,47 @@ def net_corner_control():
     return [b]
 
 
+def net_corner_trilat():
+    """Distances only between three held pillars that see no other pillar,
+    each measured to three new marks, no new mark measured to two of them,
+    the new marks braced among themselves: from computed starts the local
+    frame is settled by one free choice (which side of the first line), so
+    it is the real frame or its mirror image as a whole; the second book is the first mirrored
+    east-west, so that one of the two takes the mirror-image fit."""
+    books = []
+    for fname, sgn, seed in (("corner_trilat.cfb", 1.0, 3121), ("corner_trilat_mirror.cfb", -1.0, 3122)):
+        b = Book(fname, ["tests: plane trilateration (horiz distances only) tied to three held pillars,",
+                         "each measured to three new marks, no new mark to two pillars, the new marks braced;",
+                         "from computed starts (test-starts.sh) a local frame fitted to the pillars, as",
+                         "its mirror image where the first free choice fell the other way%s;" % (
+                             " (this book is its twin mirrored east-west)" if sgn < 0 else ""),
+                         "Corriebrack fish-pass settlement studs"], seed=seed)
+        b.instrument("EDM1", "distance 2mm+2ppm centring 1mm", dist_a=0.002, dist_b=2.0, centring=0.001)
+        c0 = 5400.0
+        for mid, e, n, desc in (("FP-A", 5102.664, 2210.308, "pillar above the fish pass"),
+                                ("FP-B", 5630.117, 2295.841, "pillar at the pass outlet"),
+                                ("FP-C", 5388.902, 1802.575, "pillar on the lower weir")):
+            b.mark(mid, c0 + sgn * (e - c0), n, hold="en", desc=desc)
+        new = (("F1", 5251.310, 2170.442), ("F2", 5244.087, 2035.915), ("F3", 5478.551, 2219.630),
+               ("F4", 5530.902, 2112.764), ("F5", 5352.208, 1950.117), ("F6", 5455.376, 1975.480),
+               ("F7", 5180.514, 2120.233), ("F8", 5570.318, 2205.872), ("F9", 5410.725, 1880.406))
+        for mid, e, n in new:
+            b.mark(mid, c0 + sgn * (e - c0), n)
+        fs = ["F%d" % i for i in range(1, 10)]
+        plan = [("FP-A", ("F1", "F2", "F7")), ("FP-B", ("F3", "F4", "F8")), ("FP-C", ("F5", "F6", "F9"))]
+        plan += [(fs[i], tuple(fs[i + 1:])) for i in range(len(fs) - 1)]
+        for at, tos in plan:
+            b.setup(at)
+            for to in tos:
+                b.sight(to, hz=False, horiz=True)
+        books.append(b)
+    return books
+
+
 ALL = (net_levelling, net_trilateration, net_dirs_dists, net_angles_azimuths, net_threed,
        net_usft_gon, net_ft_deg, net_weighted, net_free, net_dim1, net_dim2, net_grid, net_explicit_sd,
        net_resection, net_intersection, net_free_traverse, net_loop_traverse, net_polar_3d,
-       net_corner_control)
+       net_corner_control, net_corner_trilat)
 
 
 def main(argv):
