@@ -14,7 +14,10 @@
  *    quantiles of REFERENCES.md §3.2 (computed here by cairn's own GSL
  *    quantiles, whose tests are in test_stats.c);
  *  - results.xml validates against share/cairn-results.xsd with libxml2's
- *    xmlSchemaValidateDoc (the schema is the outside contract).
+ *    xmlSchemaValidateDoc (the schema is the outside contract);
+ *  - the held-mark test of a levelling line between two bench marks is
+ *    its misclosure over the misclosure's standard deviation, squared
+ *    (closed form, see held_mark_test_levelling_line).
  * Run from the top of the source tree (make check-unit does). */
 #include <check.h>
 #include <libxml/parser.h>
@@ -312,6 +315,56 @@ START_TEST(results_xml_escapes_source)
 }
 END_TEST
 
+/* The held-mark test on a levelling line between two held bench marks,
+ * A - P - B, one rise each way of 1 km at 1 mm/km: the only thing the
+ * observations test is the line's misclosure w = dh1 + dh2 − (HB − HA),
+ * whose variance is σ1² + σ2²; so the test of either bench mark is
+ * T = w² / (σ1² + σ2²), χ²(1), and its shift is w for B and −w for A
+ * (the misclosure test of a levelling line between bench marks, the
+ * textbook check of a line's fit to its control: common practice; the
+ * closed form follows from Teunissen's q = 1 test with C the column of
+ * the held height, dof = 1). Both fail alike. */
+START_TEST(held_mark_test_levelling_line)
+{
+    char dir[] = "/tmp/cairn-held-XXXXXX", path[64];
+    ck_assert_ptr_nonnull(mkdtemp(dir));
+    snprintf(path, sizeof path, "%s/line.cfb", dir);
+    FILE *f = fopen(path, "w");
+    ck_assert_ptr_nonnull(f);
+    fputs("units m dms\n"
+          "instrument LV1 per-km 1mm\n"
+          "mark A h 100.000 hold h\n"
+          "mark B h 105.000 hold h\n"
+          "mark P h 102.0\n"
+          "rise A P 2.0123 km 1.0 inst LV1\n"
+          "rise P B 2.9957 km 1.0 inst LV1\n", f);
+    ck_assert_int_eq(fclose(f), 0);
+    cairn_analysis_options opt;
+    cairn_analysis_options_default(&opt);
+    opt.snoop = CAIRN_SNOOP_FLAG;
+    run r;
+    ck_assert_int_eq(run_network(&r, path, &opt), 0);
+    const double w = 2.0123 + 2.9957 - 5.0, var = 2e-6, T = w * w / var;
+    ck_assert_uint_eq(r.an->ncontrol, 2);
+    for (size_t k = 0; k < 2; k++) {
+        const cairn_control_test *t = &r.an->control[k];
+        const char *id = r.net->marks[t->mark].id;
+        ck_assert_int_eq(t->q, 1);
+        ck_assert_int_eq(t->nobs, 1);
+        ck_assert_double_eq_tol(t->statistic, T, 1e-9 * T);
+        ck_assert_double_eq_tol(t->critical, pow(cairn_w_critical(0.001), 2), 1e-9);
+        ck_assert_int_eq(t->pass, 0);
+        ck_assert_double_eq_tol(t->shift[2], strcmp(id, "B") ? -w : w, 1e-9);
+        ck_assert(isnan(t->shift[0]) && isnan(t->shift[1]));
+        ck_assert_int_ge(t->alike, 0);
+        ck_assert_int_ne(t->alike, t->mark);
+    }
+    run_free(&r);
+    ck_assert_int_eq(unlink(path), 0);
+    ck_assert_int_eq(rmdir(dir), 0);
+}
+END_TEST
+
 static Suite *quality_suite(void)
 {
     Suite *s = suite_create("quality");
@@ -325,6 +378,7 @@ static Suite *quality_suite(void)
     tcase_add_test(t, aposteriori_factors);
     tcase_add_loop_test(t, results_xml_validates, 0, (int)NNET);
     tcase_add_test(t, results_xml_escapes_source);
+    tcase_add_test(t, held_mark_test_levelling_line);
     suite_add_tcase(s, t);
     return s;
 }
