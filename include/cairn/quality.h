@@ -331,6 +331,12 @@ typedef struct {
     int nrejected;         /**< of its observations, rejected by snooping (set in
                                 `control` at the end of the analysis) */
     int suspect;           /**< 1 in `control`: see cairn_control_suspect */
+    double wnet;           /**< largest |w| of the whole network in that round */
+    size_t wnet_obs;       /**< the observation with it (problem index) */
+    int single;            /**< 1: failing, but (wnet / wcrit)² ≥ T / critical:
+                                one blunder somewhere explains the data at least
+                                as well, and is what one-at-a-time
+                                identification takes first */
     int alike;             /**< a failing test of another held mark with the same
                                 statistic and dimension (to 1e-9): the
                                 observations cannot tell the two apart, as

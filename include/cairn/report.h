@@ -166,6 +166,10 @@ typedef struct {
     int suspect;              /**< 1: failed before snooping and explains the
                                    rejections of its observations better than
                                    one blunder (cairn_control_suspect) */
+    int single;               /**< failing, but one blunder explains the data as
+                                   well (cairn_control_test) */
+    double wnet;              /**< largest |w| of the network (final) */
+    size_t wnet_seq;          /**< its observation's seq (1-based) */
     int alike, alike_first;   /**< index into marks of a held mark whose test
                                    fails alike (cannot be told apart), or -1 */
 } cairn_report_control;

@@ -143,7 +143,7 @@ static void print_shift(const cairn_net *net, const double sh[3])
 
 /* The held-mark tests: a count, and each mark that fails, or that failed
  * before snooping and lost observations to it (the first SCREEN_LIST). */
-static void print_held(const cairn_net *net, const cairn_analysis *an)
+static void print_held(const cairn_net *net, const cairn_problem *p, const cairn_analysis *an)
 {
     if (an->ncontrol == 0)
         return;
@@ -172,6 +172,13 @@ static void print_held(const cairn_net *net, const cairn_analysis *an)
             printf("; %d of its %d observations\n      were then removed", t->nrejected,
                    t0->nobs);
         printf(". Check its given coordinates.\n");
+        if (!before && t->single) {
+            const cairn_obs *o = &p->obs[t->wnet_obs];
+            printf("      But observation #%zu", t->wnet_obs + 1);
+            if (o->src.file)
+                printf(" (%s:%d)", o->src.file, o->src.line);
+            printf(", |w| %.3g, explains the data as well: find that first.\n", t->wnet);
+        }
         if (u->alike >= 0)
             printf("      %s fails alike: the observations cannot tell which of the two is "
                    "wrong.\n", net->marks[u->alike].id);
@@ -322,7 +329,7 @@ static void summary(const cairn_adjustment *adj, const cairn_analysis *an,
     if (an->npairs_unavailable)
         printf("  relative precision   %zu pair%s outside the factor pattern, not computed\n",
                an->npairs_unavailable, an->npairs_unavailable == 1 ? "" : "s");
-    print_held(net, an);
+    print_held(net, p, an);
     if (!adj->datum_free) {
         printf("  datum                held and weighted control as given\n");
     } else {

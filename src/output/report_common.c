@@ -261,14 +261,14 @@ const char *cairn_rpt_shift_text(const cairn_report *r, const double shift[3], c
 static int control_warnings(const cairn_report *r, void (*emit)(void *ctx, const char *text),
                             void *ctx)
 {
-    char t[640], sh[160];
+    char t[CAIRN_PATH_MAX + 1024], sh[160];
     int k = 0;
     for (int kind = 0; kind < 2; kind++) {
         size_t nsel = 0, named = 0;
         int named_marks[CONTROL_NAMED];
         for (size_t i = 0; i < r->ncontrols; i++) {
             const cairn_report_control *c = &r->controls[i];
-            nsel += kind == 0 ? c->pass == 0 : c->suspect;
+            nsel += kind == 0 ? c->pass == 0 && !c->single : c->suspect;
         }
         double last = INFINITY;
         size_t last_i = (size_t)-1;
@@ -278,7 +278,7 @@ static int control_warnings(const cairn_report *r, void (*emit)(void *ctx, const
             double bs = -1;
             for (size_t i = 0; i < r->ncontrols; i++) {
                 const cairn_report_control *c = &r->controls[i];
-                int sel = kind == 0 ? c->pass == 0 : c->suspect;
+                int sel = kind == 0 ? c->pass == 0 && !c->single : c->suspect;
                 double st = kind == 0 ? c->statistic : c->statistic_first;
                 if (!sel || st > last || (st == last && i <= last_i))
                     continue;
@@ -324,6 +324,30 @@ static int control_warnings(const cairn_report *r, void (*emit)(void *ctx, const
             }
             emit(ctx, t);
             k++;
+        }
+        if (kind == 0) {
+            /* failures one blunder explains as well: one line for them all */
+            size_t nsingle = 0;
+            const cairn_report_control *first = NULL;
+            for (size_t i = 0; i < r->ncontrols; i++)
+                if (r->controls[i].pass == 0 && r->controls[i].single) {
+                    nsingle++;
+                    first = first ? first : &r->controls[i];
+                }
+            if (nsingle) {
+                char src[CAIRN_PATH_MAX + 32] = "";
+                if (first->wnet_seq >= 1 && first->wnet_seq <= r->nobs)
+                    cairn_rpt_source(&r->obs[first->wnet_seq - 1], src, sizeof src);
+                snprintf(t, sizeof t, "%zu held %s the test of %s given coordinates (%s%s), "
+                         "but a single blunder explains the data as well: observation #%zu"
+                         "%s%s%s has |w| %.3g. Find that first: %s may pass without it.",
+                         nsingle, nsingle == 1 ? "mark fails" : "marks fail",
+                         nsingle == 1 ? "its" : "their", cairn_rpt_id(r, first->mark),
+                         nsingle > 1 ? " among them" : "", first->wnet_seq, src[0] ? " (" : "",
+                         src, src[0] ? ")" : "", first->wnet, nsingle == 1 ? "it" : "they");
+                emit(ctx, t);
+                k++;
+            }
         }
         if (nsel > named) {
             snprintf(t, sizeof t, "%zu more held %s %s (see Held marks).", nsel - named,

@@ -416,6 +416,9 @@ static int fill_controls(cairn_report *r, struct cairn_report_store *s,
         c->pass_first = t0->pass;
         c->nrejected = t->nrejected;
         c->suspect = t->suspect;
+        c->single = t->single;
+        c->wnet = t->wnet;
+        c->wnet_seq = t->wnet_obs + 1;
         c->alike = idx(s, adj->net, t->alike);
         c->alike_first = idx(s, adj->net, t0->alike);
     }

@@ -434,12 +434,18 @@ void cairn_qa_control_wmax(const cairn_analysis *an, const cairn_qa_engine *eg,
     if (n == 0)
         return;
     const cairn_problem *prob = eg->adj->prob;
+    double wnet = NAN;
+    size_t wnet_obs = 0;
     for (size_t k = 0; k < n; k++)
         t[k].wmax = NAN;
     for (size_t i = 0; i < eg->nobs; i++) {
         double w = fabs(an->w[i]);
         if (eg->out[i] || !isfinite(w))
             continue;
+        if (!(wnet >= w)) {
+            wnet = w;
+            wnet_obs = i;
+        }
         const cairn_obs *o = &prob->obs[i];
         int ms[3] = {o->at, o->from, o->to};
         for (int s = 0; s < 3; s++) {
@@ -447,6 +453,10 @@ void cairn_qa_control_wmax(const cairn_analysis *an, const cairn_qa_engine *eg,
             if (c && !(c->wmax >= w))
                 c->wmax = w;
         }
+    }
+    for (size_t k = 0; k < n; k++) {
+        t[k].wnet = wnet;
+        t[k].wnet_obs = wnet_obs;
     }
 }
 
@@ -515,6 +525,12 @@ void cairn_qa_control_final(cairn_analysis *an)
     }
     mark_alike(an->control, an->ncontrol);
     mark_alike(an->control_first, an->ncontrol);
+    for (size_t k = 0; k < an->ncontrol; k++)
+        for (int f = 0; f < 2; f++) {
+            cairn_control_test *t = f ? &an->control_first[k] : &an->control[k];
+            double wr = t->wnet / an->wcrit;
+            t->single = t->pass == 0 && isfinite(wr) && wr * wr >= t->statistic / t->critical;
+        }
     for (size_t k = 0; k < an->ncontrol; k++) {
         an->control_first[k].nrejected = an->control[k].nrejected;
         an->control[k].suspect =

@@ -9,6 +9,11 @@
 #    of the booked value, snooping removes most of them, and the caution
 #    and the screen name SW-NE (and no other pillar);
 #  - the same network as booked: every pillar passes, no warning;
+#  - the same network with one distance from pillar SW-NW booked 0.1 m
+#    long, under --snoop flag: every pillar fails, but the blunder's w
+#    explains the data better, and the caution says so in one line naming
+#    that observation instead of accusing the pillars; with iterate
+#    snooping the blunder goes and no pillar is named;
 #  - level_km.cfb with bench mark BM-B booked 0.030 m high: with two held
 #    bench marks the observations see only their difference, so both fail
 #    alike and put BM-B 0.025-0.035 m down (and BM-A as much up).
@@ -57,6 +62,8 @@ grep -q '^mark SW-NE e 2912.140 ' "$tmp/pillar.cfb" || bad "cannot plant the pil
 sed 's/^mark BM-B h 152.042 /mark BM-B h 152.072 /' "$here/networks/level_km.cfb" >"$tmp/bench.cfb"
 grep -q '^mark BM-B h 152.072 ' "$tmp/bench.cfb" || bad "cannot plant the bench mark error"
 
+sed 's/^to S1 hz 243.34499 horiz 269.5189$/to S1 hz 243.34499 horiz 269.6189/' "$here/networks/corner_control.cfb" >"$tmp/dist.cfb"
+grep -q 'horiz 269.6189$' "$tmp/dist.cfb" || bad "cannot plant the distance blunder"
 run_pair good good.cfb
 run_pair pillar pillar.cfb
 run_pair pillar-flag pillar.cfb --snoop flag
@@ -85,6 +92,19 @@ grep -q 'SW-NE FAILED before snooping' "$tmp/pillar/screen" && ok "pillar: the s
 # flag: nothing is removed, so the mark fails at the end and says so
 grep -q 'SW-NE FAILS' "$tmp/pillar-flag/screen" && ok "pillar --snoop flag: SW-NE FAILS" ||
     bad "pillar --snoop flag: SW-NE not reported as failing"
+
+for mode in flag iterate; do
+    mkdir -p "$tmp/dist-$mode"
+    (cd "$tmp" && "$CAIRN" adjust dist.cfb -o "$tmp/dist-$mode" --snoop $mode) >"$tmp/dist-$mode/screen" 2>&1
+    cau=$(sed -n '1,/^====/p' "$tmp/dist-$mode/report.txt" | tr '\n' ' ' | tr -s ' ')
+    if echo "$cau" | grep -q 'Held mark .* FAIL'; then
+        bad "dist --snoop $mode: a pillar is accused of a distance blunder"; echo "$cau" | sed 's/^/    /'
+    elif [ $mode = flag ] && ! echo "$cau" | grep -q 'but a single blunder explains the data as well: observation #[0-9]* (dist.cfb:[0-9]*)'; then
+        bad "dist --snoop flag: the caution does not point at the blunder"; echo "$cau" | sed 's/^/    /'
+    else
+        ok "dist --snoop $mode: the distance blunder is not put on the pillars"
+    fi
+done
 
 g=$tmp/good/c
 if ! grep -q 'held mark .* FAIL' "$g/report.txt" && grep -q '4 tested against their observations: 0 fail' "$g/../screen"; then
