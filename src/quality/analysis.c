@@ -344,40 +344,23 @@ static size_t put_back(cairn_analysis *an, const cairn_qa_engine *eg,
     return m;
 }
 
-/* The held-mark tests on the factor about to be used up: the first ones
- * kept in control_first, the latest in control. Only on a factor at the
- * solution: the first round's and the final one's always are, and the
- * rounds between, whose factor is that of their starting point, would
- * pay for tests the report never shows (6 s a round at 10^6 marks). */
-static int control_tests(cairn_analysis *an, const cairn_qa_engine *eg, int *pfresh,
-                         cairn_error *err)
+/* The held-mark tests on the factor about to be used up, into
+ * an->control (the previous ones freed). */
+static int control_tests(cairn_analysis *an, const cairn_qa_engine *eg, cairn_error *err)
 {
     cairn_control_test *ct = NULL;
     size_t n = 0;
-    *pfresh = 0;
-    if (an->control_first && !eg->factor_at_solution)
-        return 0;
-    *pfresh = 1;
     double t0 = cairn_qa_now();
     if (cairn_qa_control_tests(an, eg, &ct, &n))
         return cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory"),
                CAIRN_SOLVE_ENOMEM;
     an->t_control += cairn_qa_now() - t0;
-    size_t failed = 0;
-    for (size_t k = 0; k < n; k++)
-        failed += ct[k].pass == 0;
-    if (!an->control_first && n) {
-        an->control_first = ct;
-        an->ncontrol_first_failed = failed;
-        if (!(ct = malloc(n * sizeof *ct)))
-            return cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory"),
-                   CAIRN_SOLVE_ENOMEM;
-        memcpy(ct, an->control_first, n * sizeof *ct);
-    }
     free(an->control);
     an->control = ct;
     an->ncontrol = n;
-    an->ncontrol_failed = failed;
+    an->ncontrol_failed = 0;
+    for (size_t k = 0; k < n; k++)
+        an->ncontrol_failed += ct[k].pass == 0;
     return 0;
 }
 
@@ -451,7 +434,7 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
     cairn_selinv *Z = NULL;
     size_t *pick = NULL, npick_cap = 0, nrej_cap = 0, *back = NULL, nback_cap = 0;
     unsigned char *how = NULL;   /* HOW_* of each observation (iterate) */
-    int control_w_done = 0;      /* control_first has its wmax */
+    int control_done = 0;        /* the first round's held-mark tests are made */
     int rc;
     memset(&eg, 0, sizeof eg);
     if (alloc_tests(an, adj->nobs)) {
@@ -467,21 +450,33 @@ int cairn_analyse(cairn_adjustment *adj, const cairn_analysis_options *opt,
         goto fail;
     }
     for (;;) {
-        int fresh;
-        if ((rc = control_tests(an, &eg, &fresh, err)))
+        /* The held-mark tests only on a factor at the solution: the first
+         * round's and the final one's always are, and the rounds between,
+         * whose factor is that of their starting point, would pay for
+         * tests the report never shows (6 s a round at 10^6 marks). */
+        int fresh = !control_done || eg.factor_at_solution;
+        if (fresh && (rc = control_tests(an, &eg, err)))
             goto fail;
         if ((rc = selinv(an, &eg, &Z, err)))
             goto fail;
         double tt = cairn_qa_now();
         if ((rc = test_observations(an, &eg, Z, err)))
             goto fail;
-        if (!control_w_done) {
-            /* the first round's w belong with control_first */
-            cairn_qa_control_wmax(an, &eg, an->control_first, an->ncontrol);
-            control_w_done = 1;
-        }
         if (fresh)
             cairn_qa_control_wmax(an, &eg, an->control, an->ncontrol);
+        if (!control_done) {
+            /* the first round's tests, all observations in: control_first */
+            size_t bytes = an->ncontrol * sizeof *an->control;
+            if (bytes && !(an->control_first = malloc(bytes))) {
+                cairn_error_add(err, CAIRN_SEV_ERROR, NULL, 0, 0, "out of memory");
+                rc = CAIRN_SOLVE_ENOMEM;
+                goto fail;
+            }
+            if (bytes)
+                memcpy(an->control_first, an->control, bytes);
+            an->ncontrol_first_failed = an->ncontrol_failed;
+            control_done = 1;
+        }
         an->t_tests += cairn_qa_now() - tt;
         if (opt->snoop != CAIRN_SNOOP_ITERATE)
             break;

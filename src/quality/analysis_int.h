@@ -79,6 +79,20 @@ int cairn_qa_pairs(cairn_analysis *an, const cairn_selinv *Z);
  * must still be a factor (before the selected inverse takes it). Fills
  * *pout (malloc'd, *pn entries, held marks that observations touch, in
  * mark order). Returns 0, or -1 when out of memory. */
+/* The distinct marks of observation o (at most 3: at, from, to) into m;
+ * returns how many. */
+static inline int cairn_qa_obs_marks(const cairn_obs *o, int m[3])
+{
+    int k = 0;
+    if (o->at >= 0)
+        m[k++] = o->at;
+    if (o->from >= 0 && o->from != o->at)
+        m[k++] = o->from;
+    if (o->to >= 0 && o->to != o->at && o->to != o->from)
+        m[k++] = o->to;
+    return k;
+}
+
 /* control.c: fill t[k].wmax of the n tests (in mark order) from the
  * round's w-tests (an->w of the observations eg uses). */
 void cairn_qa_control_wmax(const cairn_analysis *an, const cairn_qa_engine *eg,

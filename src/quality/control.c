@@ -193,10 +193,8 @@ static void decide(const mark_acc *m, double alpha, cairn_control_test *out)
     out->held = m->held;
     out->nobs = m->nobs;
     out->statistic = out->critical = NAN;
-    out->shift[0] = out->shift[1] = out->shift[2] = NAN;
+    out->shift[0] = out->shift[1] = out->shift[2] = NAN;   /* until testable */
     out->pass = -1;
-    for (int k = 0; k < q; k++)
-        out->shift[m->comp[k]] = 0.0;
     memcpy(W, m->W, sizeof W);
     if (LAPACKE_dsyev(LAPACK_COL_MAJOR, 'V', 'L', q, W, 3, lam) != 0)
         return;
@@ -244,10 +242,8 @@ static void decide(const mark_acc *m, double alpha, cairn_control_test *out)
             shift[i] -= g[i] * a / rho[k];
         kept++;
     }
-    if (kept == 0) {
-        out->shift[0] = out->shift[1] = out->shift[2] = NAN;
+    if (kept == 0)
         return;
-    }
     out->q = kept;
     out->statistic = T;
     out->critical = cairn_chi2_quantile(1.0 - alpha, (double)kept);
@@ -320,15 +316,10 @@ int cairn_qa_control_tests(const cairn_analysis *an, const cairn_qa_engine *eg,
             if (eg->out[i] || o->kind == CAIRN_OBS_CONTROL_E || o->kind == CAIRN_OBS_CONTROL_N ||
                 o->kind == CAIRN_OBS_CONTROL_H)
                 continue;
-            int ms[3] = {o->at, o->from, o->to};
-            for (int t = 0; t < 3; t++) {
+            int ms[3], nms = cairn_qa_obs_marks(o, ms);
+            for (int t = 0; t < nms; t++) {
                 int m = ms[t];
-                if (m < 0 || (size_t)m >= nmarks || slot[m] < 0)
-                    continue;
-                int dup = 0;
-                for (int t2 = 0; t2 < t; t2++)
-                    dup |= ms[t2] == m;
-                if (dup)
+                if ((size_t)m >= nmarks || slot[m] < 0)
                     continue;
                 if (pass == 0)
                     cnt[slot[m] + 1]++;
@@ -446,10 +437,9 @@ void cairn_qa_control_wmax(const cairn_analysis *an, const cairn_qa_engine *eg,
             wnet = w;
             wnet_obs = i;
         }
-        const cairn_obs *o = &prob->obs[i];
-        int ms[3] = {o->at, o->from, o->to};
-        for (int s = 0; s < 3; s++) {
-            cairn_control_test *c = ms[s] >= 0 ? find_test(t, n, ms[s]) : NULL;
+        int ms[3], nms = cairn_qa_obs_marks(&prob->obs[i], ms);
+        for (int s = 0; s < nms; s++) {
+            cairn_control_test *c = find_test(t, n, ms[s]);
             if (c && !(c->wmax >= w))
                 c->wmax = w;
         }
@@ -513,11 +503,8 @@ void cairn_qa_control_final(cairn_analysis *an)
 {
     const cairn_problem *prob = an->adj->prob;
     for (size_t j = 0; j < an->nrejections; j++) {
-        const cairn_obs *o = &prob->obs[an->rejections[j].obs];
-        int ms[3] = {o->at, o->from, o->to};
-        for (int s = 0; s < 3; s++) {
-            if (ms[s] < 0 || (s > 0 && ms[s] == ms[0]) || (s > 1 && ms[s] == ms[1]))
-                continue;
+        int ms[3], nms = cairn_qa_obs_marks(&prob->obs[an->rejections[j].obs], ms);
+        for (int s = 0; s < nms; s++) {
             cairn_control_test *c = find_test(an->control, an->ncontrol, ms[s]);
             if (c)
                 c->nrejected++;

@@ -64,16 +64,6 @@ static int cmp_int(const void *a, const void *b)
     return (x > y) - (x < y);
 }
 
-/* The marks of observation o (at most 3). */
-static int obs_marks(const cairn_obs *o, int m[3])
-{
-    int k = 0;
-    if (o->at >= 0) m[k++] = o->at;
-    if (o->from >= 0) m[k++] = o->from;
-    if (o->to >= 0) m[k++] = o->to;
-    return k;
-}
-
 /* Mark adjacency (marks joined by an observation) in CSR form. */
 static int build_adjacency(const cairn_problem *p, size_t nmarks, size_t **pptr,
                            int **padj)
@@ -82,7 +72,7 @@ static int build_adjacency(const cairn_problem *p, size_t nmarks, size_t **pptr,
     if (!ptr)
         return -1;
     for (size_t i = 0; i < p->nobs; i++) {
-        int m[3], k = obs_marks(&p->obs[i], m);
+        int m[3], k = cairn_qa_obs_marks(&p->obs[i], m);
         for (int a = 0; a < k; a++)
             ptr[m[a] + 1] += (size_t)(k - 1);
     }
@@ -99,7 +89,7 @@ static int build_adjacency(const cairn_problem *p, size_t nmarks, size_t **pptr,
     for (size_t i = 0; i < nmarks; i++)
         fill[i] = ptr[i];
     for (size_t i = 0; i < p->nobs; i++) {
-        int m[3], k = obs_marks(&p->obs[i], m);
+        int m[3], k = cairn_qa_obs_marks(&p->obs[i], m);
         for (int a = 0; a < k; a++)
             for (int b = 0; b < k; b++)
                 if (a != b)
@@ -202,7 +192,7 @@ static int correlation(const batch *b, size_t i, size_t j, double *prho)
  * BLOCK_LINES; or -1 when there are more or the ball is too large. */
 static int nearby_picks(batch *b, size_t j, size_t S[COND_MAX], int need[COND_MAX])
 {
-    int m[3], nm = obs_marks(&b->p->obs[j], m), nb = 0, ns = 0;
+    int m[3], nm = cairn_qa_obs_marks(&b->p->obs[j], m), nb = 0, ns = 0;
     int lim[COND_LINES + 2];
     if (++b->stamp == 0) {   /* wrapped: clear the stamps once */
         for (size_t q = 0; q < b->nmarks; q++)
@@ -342,7 +332,7 @@ static int conditioned(const batch *b, size_t j, const size_t *S0, const int *ne
 /* Take observation j: note it at its marks, for nearby_picks. */
 static void take(batch *b, size_t j)
 {
-    int m[3], nm = obs_marks(&b->p->obs[j], m);
+    int m[3], nm = cairn_qa_obs_marks(&b->p->obs[j], m);
     for (int a = 0; a < nm; a++) {
         b->pick_of[b->npick_slots] = j;
         b->pick_next[b->npick_slots] = b->pick_head[m[a]];
@@ -355,7 +345,7 @@ static void take(batch *b, size_t j)
  * round, so holding is O(marks + lines) a round). */
 static void hold(batch *b, size_t j)
 {
-    int m[3], nm = obs_marks(&b->p->obs[j], m);
+    int m[3], nm = cairn_qa_obs_marks(&b->p->obs[j], m);
     for (int a = 0; a < nm; a++) {
         b->held[m[a]] = 1;
         if (b->expanded[m[a]] == 2)
@@ -444,7 +434,7 @@ size_t cairn_qa_next_rejections(const cairn_analysis *an, const cairn_qa_engine 
     size_t k = 0;
     for (size_t j = 0; j < nc && k < limit; j++) {
         size_t o = c[j].obs;
-        int m[3], nm = obs_marks(&p->obs[o], m), near = 0;
+        int m[3], nm = cairn_qa_obs_marks(&p->obs[o], m), near = 0;
         for (int a = 0; a < nm; a++)
             near |= b.held[m[a]];
         size_t S[COND_MAX];
