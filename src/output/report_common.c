@@ -258,6 +258,14 @@ const char *cairn_rpt_shift_text(const cairn_report *r, const double shift[3], c
  * statistic first, as the identification step of the DIA procedure picks
  * the likeliest alternative (Teunissen, Testing Theory, 2000, ch. 6; from
  * memory). */
+/* Whether the caution names held mark c by itself: kind 0, failing at the
+ * end (unless one blunder explains it as well); kind 1, failing before
+ * snooping as the likelier cause of its rejections. */
+static int control_named(const cairn_report_control *c, int kind)
+{
+    return kind == 0 ? c->pass == 0 && !c->single : c->suspect;
+}
+
 static int control_warnings(const cairn_report *r, void (*emit)(void *ctx, const char *text),
                             void *ctx)
 {
@@ -266,10 +274,8 @@ static int control_warnings(const cairn_report *r, void (*emit)(void *ctx, const
     for (int kind = 0; kind < 2; kind++) {
         size_t nsel = 0, named = 0;
         int named_marks[CONTROL_NAMED];
-        for (size_t i = 0; i < r->ncontrols; i++) {
-            const cairn_report_control *c = &r->controls[i];
-            nsel += kind == 0 ? c->pass == 0 && !c->single : c->suspect;
-        }
+        for (size_t i = 0; i < r->ncontrols; i++)
+            nsel += (size_t)control_named(&r->controls[i], kind);
         double last = INFINITY;
         size_t last_i = (size_t)-1;
         while (named < nsel && named < CONTROL_NAMED) {
@@ -278,9 +284,8 @@ static int control_warnings(const cairn_report *r, void (*emit)(void *ctx, const
             double bs = -1;
             for (size_t i = 0; i < r->ncontrols; i++) {
                 const cairn_report_control *c = &r->controls[i];
-                int sel = kind == 0 ? c->pass == 0 && !c->single : c->suspect;
                 double st = kind == 0 ? c->statistic : c->statistic_first;
-                if (!sel || st > last || (st == last && i <= last_i))
+                if (!control_named(c, kind) || st > last || (st == last && i <= last_i))
                     continue;
                 if (st > bs) {
                     bs = st;
